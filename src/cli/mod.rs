@@ -1,0 +1,88 @@
+//! The command line: clap arguments, then args → library → renderers → stdout or files, then the exit code.
+//!
+//! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
+//! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
+
+mod output;
+mod stock;
+
+use clap::{Parser, Subcommand};
+use std::process::ExitCode;
+
+pub use output::Out;
+
+/// Bias a bipolar transistor stage from the resistors you actually have.
+#[derive(Debug, Parser)]
+#[command(name = "biasfit", version, about, long_about = None, propagate_version = true)]
+pub struct Cli {
+    #[command(subcommand)]
+    command: Command,
+}
+
+#[derive(Debug, Subcommand)]
+enum Command {
+    /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
+    Stock(stock::StockArgs),
+}
+
+/// Why a command did not finish normally; each kind has its own exit code.
+#[derive(Debug)]
+#[allow(dead_code)] // Infeasible and ChecksFailed come into use with the design and check commands.
+pub enum Failure {
+    /// The input (a flag, a file, a value) was refused.
+    Input(String),
+    /// No design meets the hard constraints.
+    Infeasible(String),
+    /// An output could not be written.
+    Io(String),
+    /// The command ran, but a check failed; the report already says which.
+    ChecksFailed,
+}
+
+impl Failure {
+    fn code(&self) -> u8 {
+        match self {
+            Failure::ChecksFailed => 1,
+            Failure::Input(_) => 2,
+            Failure::Infeasible(_) => 3,
+            Failure::Io(_) => 4,
+        }
+    }
+}
+
+/// Turns any displayable library error into bad-input failure.
+pub fn input<E: std::fmt::Display>(e: E) -> Failure {
+    Failure::Input(e.to_string())
+}
+
+/// Parses the command line, runs the command, and maps the outcome to an exit code.
+pub fn main() -> ExitCode {
+    let cli = match Cli::try_parse() {
+        Ok(cli) => cli,
+        Err(e) => {
+            let code = if e.use_stderr() { 2 } else { 0 };
+            let _ = e.print();
+            return ExitCode::from(code);
+        }
+    };
+    let mut out = Out::stdout();
+    let result = match cli.command {
+        Command::Stock(args) => stock::run(args, &mut out),
+    };
+    match result {
+        Ok(()) => ExitCode::SUCCESS,
+        Err(Failure::Io(msg)) if out.pipe_closed() => {
+            let _ = msg;
+            ExitCode::SUCCESS
+        }
+        Err(f) => {
+            match &f {
+                Failure::Input(m) | Failure::Infeasible(m) | Failure::Io(m) => {
+                    eprintln!("error: {m}")
+                }
+                Failure::ChecksFailed => {}
+            }
+            ExitCode::from(f.code())
+        }
+    }
+}

@@ -1,0 +1,238 @@
+//! Networks of resistors: a single part, or series and parallel combinations nested to any depth, with their
+//! resistance, worst-case tolerance band and each member's share of the power.
+//!
+//! A network's members are concrete resistors ([`Member`]), each with its tolerance, rating and (when it
+//! comes from stock) its location and stock index, so that checks and pick lists need nothing else.
+
+use crate::notation::value::code;
+use crate::units::{Amps, Ohms, Tolerance, Volts, Watts};
+use serde::Serialize;
+
+/// A stocked part's position in a [`crate::stock::Stock`]'s list of parts.
+pub type PartId = usize;
+
+/// One physical resistor in a network.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Member {
+    /// Nominal resistance.
+    pub ohms: Ohms,
+    /// Tolerance of the nominal value.
+    pub tolerance: Tolerance,
+    /// Power rating.
+    pub power: Watts,
+    /// Where to find it (bin or drawer label), if known.
+    pub location: Option<String>,
+    /// Which stock part it is, if it comes from stock.
+    #[serde(skip)]
+    pub part: Option<PartId>,
+}
+
+impl Member {
+    /// A resistor that is not tied to any stock part.
+    pub fn loose(ohms: Ohms, tolerance: Tolerance, power: Watts) -> Member {
+        Member {
+            ohms,
+            tolerance,
+            power,
+            location: None,
+            part: None,
+        }
+    }
+}
+
+/// A resistor network: one part, or members in series or in parallel.
+#[derive(Clone, Debug, PartialEq)]
+pub enum Network {
+    /// One resistor.
+    Single(Member),
+    /// Members carrying the same current.
+    Series(Vec<Network>),
+    /// Members sharing the same voltage.
+    Parallel(Vec<Network>),
+}
+
+impl Network {
+    /// The nominal resistance.
+    pub fn ohms(&self) -> Ohms {
+        self.ohms_with(&|m| m.ohms)
+    }
+
+    /// The resistance with each member's value given by `value`.
+    ///
+    /// Used for corners and Monte Carlo draws: the network's shape stays, its members move.
+    pub fn ohms_with(&self, value: &dyn Fn(&Member) -> Ohms) -> Ohms {
+        match self {
+            Network::Single(m) => value(m),
+            Network::Series(parts) => Ohms(parts.iter().map(|p| p.ohms_with(value).0).sum()),
+            Network::Parallel(parts) => Ohms(
+                1.0 / parts
+                    .iter()
+                    .map(|p| 1.0 / p.ohms_with(value).0)
+                    .sum::<f64>(),
+            ),
+        }
+    }
+
+    /// The members, left to right.
+    pub fn members(&self) -> Vec<&Member> {
+        let mut out = Vec::new();
+        self.collect_members(&mut out);
+        out
+    }
+
+    fn collect_members<'a>(&'a self, out: &mut Vec<&'a Member>) {
+        match self {
+            Network::Single(m) => out.push(m),
+            Network::Series(parts) | Network::Parallel(parts) => {
+                parts.iter().for_each(|p| p.collect_members(out))
+            }
+        }
+    }
+
+    /// Mutable access to the members, left to right.
+    pub fn members_mut(&mut self) -> Vec<&mut Member> {
+        match self {
+            Network::Single(m) => vec![m],
+            Network::Series(parts) | Network::Parallel(parts) => {
+                parts.iter_mut().flat_map(|p| p.members_mut()).collect()
+            }
+        }
+    }
+
+    /// How many resistors the network uses.
+    pub fn part_count(&self) -> usize {
+        self.members().len()
+    }
+
+    /// The worst-case band as relative deviations (low, high) from the nominal, e.g. (−0.05, +0.05).
+    ///
+    /// Series and parallel resistance rise with every member's value, so the extremes are all members at
+    /// their low limit and all at their high limit.
+    pub fn band(&self) -> (f64, f64) {
+        let nominal = self.ohms().0;
+        let low = self.ohms_with(&|m| m.ohms * (1.0 - m.tolerance.0)).0;
+        let high = self.ohms_with(&|m| m.ohms * (1.0 + m.tolerance.0)).0;
+        (low / nominal - 1.0, high / nominal - 1.0)
+    }
+
+    /// Each member's dissipation with `current` through the whole network, in member order.
+    pub fn member_powers(&self, current: Amps) -> Vec<Watts> {
+        let mut out = Vec::new();
+        self.collect_powers(current, &mut out);
+        out
+    }
+
+    fn collect_powers(&self, current: Amps, out: &mut Vec<Watts>) {
+        match self {
+            Network::Single(m) => out.push(m.ohms.power_at_current(current)),
+            Network::Series(parts) => parts.iter().for_each(|p| p.collect_powers(current, out)),
+            Network::Parallel(parts) => {
+                let v: Volts = current * self.ohms();
+                for p in parts {
+                    p.collect_powers(v / p.ohms(), out);
+                }
+            }
+        }
+    }
+
+    /// Each member's dissipation with `voltage` across the whole network.
+    pub fn member_powers_at_voltage(&self, voltage: Volts) -> Vec<Watts> {
+        self.member_powers(voltage / self.ohms())
+    }
+
+    /// The network in the `--use` notation: `a+b` is series, `a|b` parallel, parentheses where needed.
+    pub fn notation(&self) -> String {
+        self.notation_in(None)
+    }
+
+    fn notation_in(&self, parent: Option<bool>) -> String {
+        match self {
+            Network::Single(m) => code(m.ohms),
+            Network::Series(parts) | Network::Parallel(parts) => {
+                let series = matches!(self, Network::Series(_));
+                let joined = parts
+                    .iter()
+                    .map(|p| p.notation_in(Some(series)))
+                    .collect::<Vec<_>>()
+                    .join(if series { "+" } else { "|" });
+                // '|' binds tighter than '+', so only a series inside a parallel needs brackets; we also
+                // bracket a parallel inside a series, since people read a+(b|c) faster than a+b|c.
+                if parent.is_some() && parts.len() > 1 {
+                    format!("({joined})")
+                } else {
+                    joined
+                }
+            }
+        }
+    }
+
+    /// How to connect it, in words, for a build sheet.
+    pub fn wiring(&self) -> String {
+        match self {
+            Network::Single(m) => format!("one {}", code(m.ohms)),
+            Network::Series(parts) if parts.iter().all(|p| matches!(p, Network::Single(_))) => {
+                format!("{} in series", parts.len())
+            }
+            Network::Parallel(parts) if parts.iter().all(|p| matches!(p, Network::Single(_))) => {
+                format!("{} in parallel", parts.len())
+            }
+            _ => format!("as drawn: {}", self.notation()),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn r(ohms: f64, tol: f64) -> Network {
+        Network::Single(Member::loose(Ohms(ohms), Tolerance(tol), Watts(0.25)))
+    }
+
+    #[test]
+    fn arithmetic_by_hand() {
+        // 10k + 4k7 = 14k7; 10k | 10k = 5k; (220 + 47) | 1k = 267·1000/1267 = 210.73 Ω.
+        assert_eq!(
+            Network::Series(vec![r(10e3, 0.05), r(4700.0, 0.05)]).ohms(),
+            Ohms(14_700.0)
+        );
+        assert_eq!(
+            Network::Parallel(vec![r(10e3, 0.05), r(10e3, 0.05)]).ohms(),
+            Ohms(5e3)
+        );
+        let mixed = Network::Parallel(vec![
+            Network::Series(vec![r(220.0, 0.05), r(47.0, 0.05)]),
+            r(1e3, 0.05),
+        ]);
+        assert!((mixed.ohms().0 - 267_000.0 / 1267.0).abs() < 1e-9);
+        assert_eq!(mixed.notation(), "(220R+47R)|1k");
+        assert_eq!(mixed.part_count(), 3);
+    }
+
+    #[test]
+    fn tolerance_band_by_hand() {
+        // Equal tolerances: the band is the members' band, for any shape (the network is homogeneous of
+        // degree one in its members).
+        let (lo, hi) = Network::Series(vec![r(10e3, 0.01), r(4700.0, 0.01)]).band();
+        assert!((lo + 0.01).abs() < 1e-12 && (hi - 0.01).abs() < 1e-12);
+        // Mixed: 10k 1 % + 1k 5 %: low = 9900 + 950 = 10850, high = 10100 + 1050 = 11150, nominal 11000:
+        // -1.3636 % / +1.3636 %.
+        let (lo, hi) = Network::Series(vec![r(10e3, 0.01), r(1e3, 0.05)]).band();
+        assert!((lo - (10_850.0 / 11_000.0 - 1.0)).abs() < 1e-12);
+        assert!((hi - (11_150.0 / 11_000.0 - 1.0)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn power_shares_by_hand() {
+        // 1 mA through 10k + 4k7: 10 mW and 4.7 mW. 10 V across 10k | 4k7: 10 mW and 21.28 mW.
+        let s = Network::Series(vec![r(10e3, 0.05), r(4700.0, 0.05)]);
+        let p = s.member_powers(Amps(1e-3));
+        assert!((p[0].0 - 0.010).abs() < 1e-15 && (p[1].0 - 0.0047).abs() < 1e-15);
+        let par = Network::Parallel(vec![r(10e3, 0.05), r(4700.0, 0.05)]);
+        let p = par.member_powers_at_voltage(Volts(10.0));
+        assert!((p[0].0 - 0.01).abs() < 1e-12 && (p[1].0 - 100.0 / 4700.0).abs() < 1e-12);
+        // The shares add up to the whole.
+        let total: f64 = p.iter().map(|w| w.0).sum();
+        assert!((total - 100.0 / par.ohms().0).abs() < 1e-12);
+    }
+}

@@ -1,0 +1,16 @@
+//! How values are written and read: resistances in the IEC 60062 letter code, other quantities with SI
+//! prefixes, IEC 60063 preferred-number series, and the series/parallel network notation.
+//!
+//! Everything here is pure text-to-value conversion; it knows nothing of stock or circuits.
+
+pub mod eseries;
+pub mod network;
+pub mod quantity;
+pub mod value;
+
+pub use eseries::Series;
+pub use network::{parse_network, NetworkError};
+pub use quantity::{
+    engineering, parse_amps, parse_tolerance, parse_volts, parse_watts, trim_number, QuantityError,
+};
+pub use value::{code, parse_ohms, Code, ValueError};

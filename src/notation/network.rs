@@ -1,0 +1,240 @@
+//! The network notation used on the command line and in reports: `a+b` is series, `a|b` is parallel, and
+//! parentheses group, as in `(220+47)|1k`. `|` binds tighter than `+`, the way × binds tighter than + and the
+//! way 1/R adds up for parallel parts, so `1k+2k|2k` is 1k in series with (2k | 2k) = 2 kΩ.
+
+use crate::network::{Member, Network};
+use crate::notation::value::parse_ohms;
+use crate::units::{Tolerance, Watts};
+
+/// A network notation that could not be read.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[error("\"{input}\" is not a resistor network: {reason} (at character {position}); expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k")]
+pub struct NetworkError {
+    /// The text as given.
+    pub input: String,
+    /// 1-based character position of the problem.
+    pub position: usize,
+    /// What went wrong.
+    pub reason: String,
+}
+
+struct Parser<'a> {
+    input: &'a str,
+    chars: Vec<char>,
+    at: usize,
+    tolerance: Tolerance,
+    power: Watts,
+    depth: usize,
+}
+
+/// How deeply parentheses may nest: far beyond any real network, and a guard against stack exhaustion.
+const MAX_DEPTH: usize = 32;
+
+impl Parser<'_> {
+    fn fail<T>(&self, reason: impl Into<String>) -> Result<T, NetworkError> {
+        Err(NetworkError {
+            input: self.input.to_string(),
+            position: self.at + 1,
+            reason: reason.into(),
+        })
+    }
+
+    fn skip_space(&mut self) {
+        while self.at < self.chars.len() && self.chars[self.at].is_whitespace() {
+            self.at += 1;
+        }
+    }
+
+    fn peek(&mut self) -> Option<char> {
+        self.skip_space();
+        self.chars.get(self.at).copied()
+    }
+
+    fn expr(&mut self) -> Result<Network, NetworkError> {
+        let mut parts = vec![self.term()?];
+        while self.peek() == Some('+') {
+            self.at += 1;
+            parts.push(self.term()?);
+        }
+        Ok(join(parts, true))
+    }
+
+    fn term(&mut self) -> Result<Network, NetworkError> {
+        let mut parts = vec![self.factor()?];
+        while self.peek() == Some('|') {
+            self.at += 1;
+            parts.push(self.factor()?);
+        }
+        Ok(join(parts, false))
+    }
+
+    fn factor(&mut self) -> Result<Network, NetworkError> {
+        match self.peek() {
+            Some('(') => {
+                self.depth += 1;
+                if self.depth > MAX_DEPTH {
+                    return self.fail("parentheses nest too deeply");
+                }
+                self.at += 1;
+                let inner = self.expr()?;
+                if self.peek() != Some(')') {
+                    return self.fail("a '(' is not closed");
+                }
+                self.at += 1;
+                self.depth -= 1;
+                Ok(inner)
+            }
+            None => self.fail("a value is missing at the end"),
+            Some(c) if matches!(c, '+' | '|' | ')') => {
+                self.fail(format!("a value is missing before '{c}'"))
+            }
+            Some(_) => {
+                let start = self.at;
+                while self.at < self.chars.len()
+                    && !matches!(self.chars[self.at], '+' | '|' | '(' | ')')
+                {
+                    self.at += 1;
+                }
+                let text: String = self.chars[start..self.at].iter().collect();
+                // A '+' right after an exponent's 'e' belongs to the number (4.7e+3).
+                let text = if text.trim_end().ends_with(['e', 'E'])
+                    && self.chars.get(self.at) == Some(&'+')
+                    && text
+                        .trim()
+                        .chars()
+                        .next()
+                        .is_some_and(|c| c.is_ascii_digit())
+                {
+                    self.at += 1;
+                    let more_start = self.at;
+                    while self.at < self.chars.len() && self.chars[self.at].is_ascii_digit() {
+                        self.at += 1;
+                    }
+                    let digits: String = self.chars[more_start..self.at].iter().collect();
+                    format!("{text}+{digits}")
+                } else {
+                    text
+                };
+                match parse_ohms(&text) {
+                    Ok(ohms) => Ok(Network::Single(Member::loose(
+                        ohms,
+                        self.tolerance,
+                        self.power,
+                    ))),
+                    Err(e) => {
+                        self.at = start;
+                        self.fail(format!("\"{}\" {}", text.trim(), e.reason))
+                    }
+                }
+            }
+        }
+    }
+}
+
+fn join(mut parts: Vec<Network>, series: bool) -> Network {
+    if parts.len() == 1 {
+        return parts.pop().expect("one part");
+    }
+    // Flatten a+(b+c) into a+b+c: the same circuit, one level shallower.
+    let mut flat = Vec::new();
+    for p in parts {
+        match (p, series) {
+            (Network::Series(inner), true) => flat.extend(inner),
+            (Network::Parallel(inner), false) => flat.extend(inner),
+            (other, _) => flat.push(other),
+        }
+    }
+    if series {
+        Network::Series(flat)
+    } else {
+        Network::Parallel(flat)
+    }
+}
+
+/// Reads a network such as `10k+4k7`, `4k7|4k7` or `(220+47)|1k`; every member gets the given tolerance
+/// and power rating.
+pub fn parse_network(
+    input: &str,
+    tolerance: Tolerance,
+    power: Watts,
+) -> Result<Network, NetworkError> {
+    let mut p = Parser {
+        input,
+        chars: input.chars().collect(),
+        at: 0,
+        tolerance,
+        power,
+        depth: 0,
+    };
+    if p.peek().is_none() {
+        return p.fail("it is empty");
+    }
+    let net = p.expr()?;
+    if let Some(c) = p.peek() {
+        return p.fail(format!("unexpected '{c}'"));
+    }
+    Ok(net)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::units::Ohms;
+    use proptest::prelude::*;
+
+    fn parse(s: &str) -> Network {
+        parse_network(s, Tolerance(0.05), Watts(0.25)).unwrap_or_else(|e| panic!("{e}"))
+    }
+
+    #[test]
+    fn reads_series_parallel_and_groups() {
+        assert_eq!(parse("4k7").ohms(), Ohms(4700.0));
+        assert_eq!(parse("10k+4k7").ohms(), Ohms(14_700.0));
+        assert_eq!(parse("10k|10k").ohms(), Ohms(5000.0));
+        assert!((parse("(220+47)|1k").ohms().0 - 267_000.0 / 1267.0).abs() < 1e-9);
+        assert_eq!(parse("1k+2k|2k").ohms(), Ohms(2000.0));
+        assert_eq!(parse(" 1k + 1k + 1k ").part_count(), 3);
+        assert_eq!(parse("1k+(1k+1k)"), parse("1k+1k+1k"));
+        assert_eq!(parse("4.7e+3+1k").ohms(), Ohms(5700.0));
+        assert_eq!(parse("1.5 kΩ|1.5 kΩ").ohms(), Ohms(750.0));
+    }
+
+    #[test]
+    fn notation_round_trips() {
+        for s in [
+            "4k7",
+            "10k+4k7",
+            "4k7|4k7",
+            "(220R+47R)|1k",
+            "1k+(2k|2k)",
+            "1k+2k+3k",
+            "(1k|1k)+(2k|2k)",
+        ] {
+            let n = parse(s);
+            assert_eq!(parse(&n.notation()), n, "{s}");
+        }
+    }
+
+    #[test]
+    fn refuses_broken_notation() {
+        for s in [
+            "", "+", "1k+", "|1k", "(1k+2k", "1k+2k)", "1k++2k", "1k|x", "()", "1k 2k", "1k(2k)",
+            "4k7k|1k",
+        ] {
+            let err = parse_network(s, Tolerance(0.05), Watts(0.25)).expect_err(s);
+            assert!(
+                err.to_string().contains("expected values joined by +"),
+                "{err}"
+            );
+        }
+        let deep = format!("{}1k{}", "(".repeat(100), ")".repeat(100));
+        assert!(parse_network(&deep, Tolerance(0.05), Watts(0.25)).is_err());
+    }
+
+    proptest! {
+        #[test]
+        fn never_panics(s in "[0-9kKRM.()+| e]{0,24}") {
+            let _ = parse_network(&s, Tolerance(0.05), Watts(0.25));
+        }
+    }
+}

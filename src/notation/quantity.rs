@@ -1,0 +1,337 @@
+//! Voltages, currents, powers and tolerances as people write them ("12V", "2mA", "1/4W", "250mW", "5%", "J"),
+//! and engineering notation for printing any quantity ("2.45 mA", "350 mW").
+
+use crate::units::{Amps, Tolerance, Volts, Watts};
+
+/// A quantity that could not be read, with the text, what it should be and why.
+#[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
+#[error("\"{input}\" is not a {what}: {reason}; expected {example}")]
+pub struct QuantityError {
+    /// The text as given.
+    pub input: String,
+    /// The kind of quantity wanted ("power", "tolerance", …).
+    pub what: &'static str,
+    /// Why it was refused.
+    pub reason: String,
+    /// Examples of what is accepted.
+    pub example: &'static str,
+}
+
+/// The power of ten an SI prefix stands for.
+fn prefix_power(c: char) -> Option<i32> {
+    Some(match c {
+        'p' => -12,
+        'n' => -9,
+        'u' | 'µ' | 'μ' => -6,
+        'm' => -3,
+        'k' | 'K' => 3,
+        'M' => 6,
+        'G' => 9,
+        _ => return None,
+    })
+}
+
+/// Reads `number [prefix] [unit]`, such as "2.5 mA", "12V", "0.35W" or "-12". The unit letter is optional.
+fn parse_si(
+    input: &str,
+    unit: char,
+    what: &'static str,
+    example: &'static str,
+) -> Result<f64, QuantityError> {
+    let refuse = |reason: &str| QuantityError {
+        input: input.to_string(),
+        what,
+        reason: reason.to_string(),
+        example,
+    };
+    let mut s = input.trim();
+    if s.is_empty() {
+        return Err(refuse("it is empty"));
+    }
+    if let Some(rest) = s
+        .strip_suffix(unit)
+        .or_else(|| s.strip_suffix(unit.to_ascii_lowercase()))
+    {
+        s = rest.trim_end();
+    }
+    let mut power = 0;
+    if let Some(last) = s.chars().last() {
+        if let Some(p) = prefix_power(last) {
+            power = p;
+            s = s[..s.len() - last.len_utf8()].trim_end();
+        }
+    }
+    let valid = !s.is_empty()
+        && s.chars()
+            .all(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
+        && s.chars().any(|c| c.is_ascii_digit());
+    if !valid {
+        return Err(refuse(
+            "it is not a number with an optional prefix and unit",
+        ));
+    }
+    let value: f64 = format!("{s}e{power}")
+        .parse()
+        .map_err(|_| refuse("it is not a number"))?;
+    if !value.is_finite() {
+        return Err(refuse("it is not finite"));
+    }
+    Ok(value)
+}
+
+/// Reads a voltage ("12", "12V", "-12 V", "650mV").
+pub fn parse_volts(input: &str) -> Result<Volts, QuantityError> {
+    parse_si(input, 'V', "voltage", "a voltage such as 12V, 650mV or -12").map(Volts)
+}
+
+/// Reads a current ("2mA", "100 µA", "0.002").
+pub fn parse_amps(input: &str) -> Result<Amps, QuantityError> {
+    parse_si(
+        input,
+        'A',
+        "current",
+        "a current such as 2mA, 150uA or 0.002",
+    )
+    .map(Amps)
+}
+
+/// Reads a power rating: "0.25W", "1/4W", "250mW", "0.6 W". It must lie between 1 mW and 10 kW.
+pub fn parse_watts(input: &str) -> Result<Watts, QuantityError> {
+    const EXAMPLE: &str = "a power such as 0.25W, 1/4W, 250mW or 0.6 W";
+    let refuse = |reason: &str| QuantityError {
+        input: input.to_string(),
+        what: "power",
+        reason: reason.to_string(),
+        example: EXAMPLE,
+    };
+    let t = input.trim();
+    let value = if let Some((num, den)) = t.split_once('/') {
+        let den = den.trim().trim_end_matches(['W', 'w']).trim_end();
+        let (n, d): (f64, f64) = match (num.trim().parse(), den.parse()) {
+            (Ok(n), Ok(d)) => (n, d),
+            _ => return Err(refuse("a fraction needs whole numbers, as in 1/4W")),
+        };
+        if d == 0.0 {
+            return Err(refuse("the fraction divides by zero"));
+        }
+        n / d
+    } else {
+        parse_si(input, 'W', "power", EXAMPLE)?
+    };
+    if !value.is_finite() || value <= 0.0 {
+        return Err(refuse("a power rating must be greater than zero"));
+    }
+    if !(1e-3..=1e4).contains(&value) {
+        return Err(refuse("it is outside 1 mW to 10 kW"));
+    }
+    Ok(Watts(value))
+}
+
+/// The IEC 60062 tolerance letters (from memory of the standard's table for resistors).
+pub const TOLERANCE_LETTERS: [(char, f64); 11] = [
+    ('L', 0.0001),
+    ('P', 0.0002),
+    ('W', 0.0005),
+    ('B', 0.001),
+    ('C', 0.0025),
+    ('D', 0.005),
+    ('F', 0.01),
+    ('G', 0.02),
+    ('J', 0.05),
+    ('K', 0.10),
+    ('M', 0.20),
+];
+
+/// Reads a tolerance: "5%", "1 %", "±1%", a fraction "0.05", or an IEC 60062 letter (F, G, J, K…).
+///
+/// A bare number is a fraction, so it must be below 1; "5" alone is refused rather than guessed.
+pub fn parse_tolerance(input: &str) -> Result<Tolerance, QuantityError> {
+    const EXAMPLE: &str =
+        "a tolerance such as 5%, 1 %, 0.05 or an IEC 60062 letter (F = 1 %, J = 5 %)";
+    let refuse = |reason: &str| QuantityError {
+        input: input.to_string(),
+        what: "tolerance",
+        reason: reason.to_string(),
+        example: EXAMPLE,
+    };
+    let t = input.trim();
+    let t = t
+        .strip_prefix('±')
+        .or_else(|| t.strip_prefix("+/-"))
+        .unwrap_or(t)
+        .trim();
+    if t.is_empty() {
+        return Err(refuse("it is empty"));
+    }
+    let mut chars = t.chars();
+    if let (Some(c), None) = (chars.next(), chars.next()) {
+        if c.is_ascii_alphabetic() {
+            return TOLERANCE_LETTERS
+                .iter()
+                .find(|(l, _)| *l == c.to_ascii_uppercase())
+                .map(|&(_, f)| Tolerance(f))
+                .ok_or_else(|| refuse("it is not an IEC 60062 tolerance letter"));
+        }
+    }
+    let number_ok = |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_digit() || c == '.');
+    let fraction: f64 = if let Some(p) = t.strip_suffix('%') {
+        let p = p.trim_end();
+        if !number_ok(p) {
+            return Err(refuse("it is not a number"));
+        }
+        format!("{p}e-2")
+            .parse()
+            .map_err(|_| refuse("it is not a number"))?
+    } else {
+        if !number_ok(t) {
+            return Err(refuse("it is not a number"));
+        }
+        let f: f64 = t.parse().map_err(|_| refuse("it is not a number"))?;
+        if f >= 1.0 {
+            return Err(refuse(
+                "a bare number is a fraction; write a percentage with % (5%)",
+            ));
+        }
+        f
+    };
+    if !(fraction > 0.0 && fraction <= 0.5) {
+        return Err(refuse("a tolerance must be above 0 and at most 50 %"));
+    }
+    Ok(Tolerance(fraction))
+}
+
+/// Formats a number with up to `sig` significant digits, dropping trailing zeros ("2.45", "12", "0.35").
+pub fn trim_number(x: f64, sig: u32) -> String {
+    if x == 0.0 || !x.is_finite() {
+        return format!("{x}");
+    }
+    let magnitude = x.abs().log10().floor() as i32;
+    let decimals = (sig as i32 - 1 - magnitude).max(0) as usize;
+    let s = format!("{:.*}", decimals, super::value::round_sig(x, sig));
+    if s.contains('.') {
+        s.trim_end_matches('0').trim_end_matches('.').to_string()
+    } else {
+        s
+    }
+}
+
+/// Formats a quantity in engineering notation with 3 significant digits: "2.45 mA", "12 V", "350 mW".
+pub fn engineering(x: f64, unit: &str) -> String {
+    if x == 0.0 {
+        return format!("0 {unit}");
+    }
+    if !x.is_finite() {
+        return format!("{x} {unit}");
+    }
+    const PREFIXES: [(i32, &str); 9] = [
+        (-12, "p"),
+        (-9, "n"),
+        (-6, "µ"),
+        (-3, "m"),
+        (0, ""),
+        (3, "k"),
+        (6, "M"),
+        (9, "G"),
+        (12, "T"),
+    ];
+    let rounded = super::value::round_sig(x, 3);
+    let magnitude = rounded.abs().log10().floor() as i32;
+    let power = (magnitude.div_euclid(3) * 3).clamp(-12, 12);
+    let prefix = PREFIXES
+        .iter()
+        .find(|(p, _)| *p == power)
+        .map_or("", |(_, s)| s);
+    format!(
+        "{} {prefix}{unit}",
+        trim_number(rounded / 10f64.powi(power), 3)
+    )
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn powers_in_every_written_form() {
+        for (s, want) in [
+            ("0.25W", 0.25),
+            ("1/4W", 0.25),
+            ("1/8 W", 0.125),
+            ("250mW", 0.25),
+            ("0.6 W", 0.6),
+            ("2W", 2.0),
+            ("0.5", 0.5),
+            ("1/2w", 0.5),
+        ] {
+            assert!((parse_watts(s).unwrap().0 - want).abs() < 1e-15, "{s}");
+        }
+        for s in ["", "0W", "-1W", "1/0W", "a/4W", "quarter", "1e9W", "NaN"] {
+            assert!(parse_watts(s).is_err(), "{s}");
+        }
+    }
+
+    #[test]
+    fn tolerances_in_every_written_form() {
+        for (s, want) in [
+            ("5%", 0.05),
+            ("1 %", 0.01),
+            ("0.05", 0.05),
+            ("±1%", 0.01),
+            ("0.1%", 0.001),
+            ("F", 0.01),
+            ("J", 0.05),
+            ("k", 0.10),
+            ("G", 0.02),
+        ] {
+            assert_eq!(parse_tolerance(s).unwrap().0, want, "{s}");
+        }
+        for s in ["", "5", "150%", "0%", "-5%", "Z", "five", "1.5"] {
+            assert!(parse_tolerance(s).is_err(), "{s}");
+        }
+    }
+
+    #[test]
+    fn iec_60062_tolerance_letters() {
+        // IEC 60062 tolerance code letters for resistors, from memory of the standard's table:
+        // B ±0.1 %, C ±0.25 %, D ±0.5 %, F ±1 %, G ±2 %, J ±5 %, K ±10 %, M ±20 %.
+        for (l, pct) in [
+            ('B', 0.1),
+            ('C', 0.25),
+            ('D', 0.5),
+            ('F', 1.0),
+            ('G', 2.0),
+            ('J', 5.0),
+            ('K', 10.0),
+            ('M', 20.0),
+        ] {
+            let t = parse_tolerance(&l.to_string()).unwrap();
+            assert!((t.percent() - pct).abs() < 1e-12, "{l}");
+        }
+    }
+
+    #[test]
+    fn voltages_and_currents() {
+        assert_eq!(parse_volts("12").unwrap().0, 12.0);
+        assert_eq!(parse_volts("-12 V").unwrap().0, -12.0);
+        assert!((parse_volts("650mV").unwrap().0 - 0.65).abs() < 1e-15);
+        assert!((parse_amps("2mA").unwrap().0 - 0.002).abs() < 1e-18);
+        assert!((parse_amps("150uA").unwrap().0 - 150e-6).abs() < 1e-18);
+        assert!((parse_amps("150 µA").unwrap().0 - 150e-6).abs() < 1e-18);
+        assert!(parse_amps("2 mV").is_err());
+        assert!(parse_volts("twelve").is_err());
+        assert!(parse_volts("").is_err());
+    }
+
+    #[test]
+    fn engineering_notation() {
+        assert_eq!(engineering(0.002_45, "A"), "2.45 mA");
+        assert_eq!(engineering(12.0, "V"), "12 V");
+        assert_eq!(engineering(0.35, "W"), "350 mW");
+        assert_eq!(engineering(1.0e-5, "A"), "10 µA");
+        assert_eq!(engineering(-12.0, "V"), "-12 V");
+        assert_eq!(engineering(0.000_999_9, "A"), "1 mA");
+        assert_eq!(engineering(4700.0, "Ω"), "4.7 kΩ");
+        assert_eq!(trim_number(5.0, 3), "5");
+        assert_eq!(trim_number(0.25, 3), "0.25");
+    }
+}

@@ -1,0 +1,562 @@
+//! The stock: the resistors on hand, read from a CSV file into validated parts that remember the lines they
+//! came from.
+//!
+//! Columns are found by header name in any order and case (value and qty are required; tolerance, power,
+//! location and note are optional; other columns are kept in the file and ignored). Rows with the same value,
+//! tolerance and power merge into one [`Part`]. Every bad row is an error naming the file, the line, the
+//! column and the text: nothing is dropped quietly.
+
+pub mod summary;
+
+use crate::notation::{parse_ohms, parse_tolerance, parse_watts};
+use crate::units::{Ohms, Tolerance, Watts};
+use std::collections::HashMap;
+use std::path::Path;
+
+pub use summary::Summary;
+
+/// One kind of resistor on hand: a value, tolerance and rating, with how many there are and where.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Part {
+    /// Nominal resistance.
+    pub ohms: Ohms,
+    /// Tolerance.
+    pub tolerance: Tolerance,
+    /// Power rating.
+    pub power: Watts,
+    /// Pieces on hand (the sum over merged rows).
+    pub qty: u32,
+    /// Every location the rows named, in file order, without repeats.
+    pub locations: Vec<String>,
+    /// Notes from the rows.
+    pub notes: Vec<String>,
+    /// The file lines (1-based) of the rows merged into this part.
+    pub lines: Vec<usize>,
+}
+
+impl Part {
+    /// The locations joined for display ("A3, B1"), or None when no row named one.
+    pub fn location(&self) -> Option<String> {
+        (!self.locations.is_empty()).then(|| self.locations.join(", "))
+    }
+}
+
+/// One data row of the file, as read.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Row {
+    /// 1-based line in the file.
+    pub line: usize,
+    /// The part the row merged into.
+    pub part: usize,
+    /// The row's own quantity.
+    pub qty: u32,
+}
+
+/// A validated stock file.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Stock {
+    /// The file it came from, as given.
+    pub file: String,
+    /// Distinct parts, in order of first appearance.
+    pub parts: Vec<Part>,
+    /// The data rows, in file order.
+    pub rows: Vec<Row>,
+    /// The field delimiter found in the header line.
+    pub delimiter: u8,
+    /// Things the user should know but that did not stop the load (defaults applied, delimiter guessed).
+    pub warnings: Vec<String>,
+}
+
+/// What to assume for a row that leaves tolerance or power blank.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct Defaults {
+    /// Tolerance for rows without one.
+    pub tolerance: Tolerance,
+    /// Power rating for rows without one.
+    pub power: Watts,
+}
+
+impl Default for Defaults {
+    /// 5 % and 0.25 W: the common carbon-film part.
+    fn default() -> Self {
+        Defaults {
+            tolerance: Tolerance(0.05),
+            power: Watts(0.25),
+        }
+    }
+}
+
+/// Why a stock file was refused.
+#[derive(Debug, thiserror::Error)]
+pub enum StockError {
+    /// The file could not be read.
+    #[error("{file}: cannot read the stock file: {source}")]
+    Io {
+        /// The file.
+        file: String,
+        /// The system's reason.
+        source: std::io::Error,
+    },
+    /// The file is not UTF-8 text.
+    #[error("{file}:{line}: the file is not UTF-8 text (byte {byte}); save it as UTF-8 CSV")]
+    NotUtf8 {
+        /// The file.
+        file: String,
+        /// 1-based line of the first bad byte.
+        line: usize,
+        /// 1-based byte offset in the line.
+        byte: usize,
+    },
+    /// No header row.
+    #[error("{file}: the file has no header row; expected a first line such as value,qty,tolerance,power,location")]
+    NoHeader {
+        /// The file.
+        file: String,
+    },
+    /// A required column is not in the header.
+    #[error("{file}:{line}: no '{column}' column in the header ({found}); expected columns value and qty, optionally tolerance, power, location, note")]
+    MissingColumn {
+        /// The file.
+        file: String,
+        /// The header's line.
+        line: usize,
+        /// The required column.
+        column: &'static str,
+        /// The header as found.
+        found: String,
+    },
+    /// The header names a column twice.
+    #[error("{file}:{line}: the header names column '{column}' twice; keep one")]
+    DuplicateColumn {
+        /// The file.
+        file: String,
+        /// The header's line.
+        line: usize,
+        /// The repeated column.
+        column: String,
+    },
+    /// A field could not be read.
+    #[error("{file}:{line}: column {column}: {message}")]
+    Field {
+        /// The file.
+        file: String,
+        /// 1-based line.
+        line: usize,
+        /// The column's name.
+        column: &'static str,
+        /// What is wrong and what is expected, quoting the text.
+        message: String,
+    },
+    /// A row's shape is wrong (too many fields, broken quoting).
+    #[error("{file}:{line}: {message}")]
+    Row {
+        /// The file.
+        file: String,
+        /// 1-based line.
+        line: usize,
+        /// What is wrong.
+        message: String,
+    },
+}
+
+/// The columns biasfit reads, with the header names it accepts for each.
+const COLUMNS: [(&str, &[&str]); 6] = [
+    ("value", &["value", "ohms", "resistance"]),
+    ("qty", &["qty", "quantity"]),
+    ("tolerance", &["tolerance", "tol"]),
+    ("power", &["power", "rating"]),
+    ("location", &["location", "bin"]),
+    ("note", &["note", "notes"]),
+];
+
+/// Reads a stock file from disk.
+pub fn load(path: &Path, defaults: Defaults) -> Result<Stock, StockError> {
+    let file = path.display().to_string();
+    let bytes = std::fs::read(path).map_err(|source| StockError::Io {
+        file: file.clone(),
+        source,
+    })?;
+    parse(&file, &bytes, defaults)
+}
+
+/// The 1-based line and column of a byte offset.
+fn line_of(bytes: &[u8], offset: usize) -> (usize, usize) {
+    let before = &bytes[..offset.min(bytes.len())];
+    let line = before.iter().filter(|&&b| b == b'\n').count() + 1;
+    let col = offset
+        - before
+            .iter()
+            .rposition(|&b| b == b'\n')
+            .map_or(0, |p| p + 1)
+        + 1;
+    (line, col)
+}
+
+/// Finds the delimiter from the header line: the most frequent of comma, semicolon and tab.
+fn detect_delimiter(text: &str) -> u8 {
+    let header = text
+        .lines()
+        .map(str::trim)
+        .find(|l| !l.is_empty() && !l.starts_with('#'))
+        .unwrap_or("");
+    let count = |c: char| header.matches(c).count();
+    let (comma, semi, tab) = (count(','), count(';'), count('\t'));
+    if semi > comma && semi >= tab {
+        b';'
+    } else if tab > comma && tab > semi {
+        b'\t'
+    } else {
+        b','
+    }
+}
+
+/// Reads a stock file's contents; `file` names it in messages.
+pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, StockError> {
+    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
+    let text = std::str::from_utf8(bytes).map_err(|e| {
+        let (line, byte) = line_of(bytes, e.valid_up_to());
+        StockError::NotUtf8 {
+            file: file.to_string(),
+            line,
+            byte,
+        }
+    })?;
+    let delimiter = detect_delimiter(text);
+    let mut warnings = Vec::new();
+    if delimiter != b',' {
+        let name = if delimiter == b';' {
+            "semicolon"
+        } else {
+            "tab"
+        };
+        warnings.push(format!(
+            "{file}: fields are separated by {name}s (found in the header line)"
+        ));
+    }
+    // Comment and blank lines are dropped before the csv reader sees the text, remembering where every kept
+    // line came from: the reader's own line count skips them, and messages must name the line in the file.
+    let mut kept = String::with_capacity(text.len());
+    let mut origin = Vec::new();
+    for (i, l) in text.split('\n').enumerate() {
+        let t = l.trim();
+        if t.is_empty() || t.starts_with('#') {
+            continue;
+        }
+        // CRLF becomes LF: the reader counts a CR-LF pair's lines one record late.
+        kept.push_str(l.strip_suffix('\r').unwrap_or(l));
+        kept.push('\n');
+        origin.push(i + 1);
+    }
+    let line_at = |pos: Option<&csv::Position>| {
+        pos.and_then(|p| origin.get((p.line() as usize).saturating_sub(1)).copied())
+            .unwrap_or(0)
+    };
+    let mut reader = csv::ReaderBuilder::new()
+        .delimiter(delimiter)
+        .flexible(true)
+        .trim(csv::Trim::All)
+        .has_headers(false)
+        .from_reader(kept.as_bytes());
+    let mut records = reader.records();
+    let row_error = |line: usize, message: String| StockError::Row {
+        file: file.to_string(),
+        line,
+        message,
+    };
+    let header = match records.next() {
+        None => {
+            return Err(StockError::NoHeader {
+                file: file.to_string(),
+            })
+        }
+        Some(Err(e)) => {
+            return Err(row_error(
+                line_at(e.position()),
+                format!("the header cannot be read: {e}"),
+            ))
+        }
+        Some(Ok(h)) => h,
+    };
+    let header_line = line_at(header.position());
+    let mut index: HashMap<&'static str, usize> = HashMap::new();
+    for (i, name) in header.iter().enumerate() {
+        let lower = name.trim().to_lowercase();
+        if let Some((canon, _)) = COLUMNS
+            .iter()
+            .find(|(_, names)| names.contains(&lower.as_str()))
+        {
+            if index.insert(canon, i).is_some() {
+                return Err(StockError::DuplicateColumn {
+                    file: file.to_string(),
+                    line: header_line,
+                    column: name.to_string(),
+                });
+            }
+        }
+    }
+    for required in ["value", "qty"] {
+        if !index.contains_key(required) {
+            return Err(StockError::MissingColumn {
+                file: file.to_string(),
+                line: header_line,
+                column: required,
+                found: header
+                    .iter()
+                    .collect::<Vec<_>>()
+                    .join(&(delimiter as char).to_string()),
+            });
+        }
+    }
+
+    let mut parts: Vec<Part> = Vec::new();
+    let mut rows = Vec::new();
+    let mut by_key: HashMap<(u64, u64, u64), usize> = HashMap::new();
+    let (mut no_tolerance, mut no_power) = (0usize, 0usize);
+    for record in records {
+        let record = record.map_err(|e| {
+            row_error(
+                line_at(e.position()),
+                format!("the row cannot be read: {e}"),
+            )
+        })?;
+        let line = line_at(record.position());
+        if record.len() > header.len() {
+            return Err(row_error(
+                line,
+                format!(
+                    "the row has {} fields but the header has {}; quote any field that contains '{}'",
+                    record.len(),
+                    header.len(),
+                    delimiter as char
+                ),
+            ));
+        }
+        let get = |column: &str| {
+            index
+                .get(column)
+                .and_then(|&i| record.get(i))
+                .unwrap_or("")
+                .trim()
+        };
+        let field = |column: &'static str, message: String| StockError::Field {
+            file: file.to_string(),
+            line,
+            column,
+            message,
+        };
+        let value = get("value");
+        if value.is_empty() {
+            return Err(field(
+                "value",
+                "the value is missing; expected a resistance such as 4k7".into(),
+            ));
+        }
+        let ohms = parse_ohms(value).map_err(|e| field("value", e.to_string()))?;
+        let qty_text = get("qty");
+        let qty: u32 = qty_text.parse().map_err(|_| {
+            field(
+                "qty",
+                format!("\"{qty_text}\" is not a quantity; expected a whole number of pieces, 0 or more"),
+            )
+        })?;
+        let tolerance = match get("tolerance") {
+            "" => {
+                no_tolerance += 1;
+                defaults.tolerance
+            }
+            t => parse_tolerance(t).map_err(|e| field("tolerance", e.to_string()))?,
+        };
+        let power = match get("power") {
+            "" => {
+                no_power += 1;
+                defaults.power
+            }
+            p => parse_watts(p).map_err(|e| field("power", e.to_string()))?,
+        };
+        let key = (ohms.0.to_bits(), tolerance.0.to_bits(), power.0.to_bits());
+        let id = *by_key.entry(key).or_insert_with(|| {
+            parts.push(Part {
+                ohms,
+                tolerance,
+                power,
+                qty: 0,
+                locations: Vec::new(),
+                notes: Vec::new(),
+                lines: Vec::new(),
+            });
+            parts.len() - 1
+        });
+        let part = &mut parts[id];
+        part.qty = part.qty.checked_add(qty).ok_or_else(|| {
+            field(
+                "qty",
+                format!("\"{qty_text}\" brings this part's total past {}", u32::MAX),
+            )
+        })?;
+        part.lines.push(line);
+        let location = get("location");
+        if !location.is_empty() && !part.locations.iter().any(|l| l == location) {
+            part.locations.push(location.to_string());
+        }
+        let note = get("note");
+        if !note.is_empty() {
+            part.notes.push(note.to_string());
+        }
+        rows.push(Row {
+            line,
+            part: id,
+            qty,
+        });
+    }
+    if no_tolerance > 0 {
+        warnings.push(format!(
+            "{file}: {no_tolerance} row(s) give no tolerance; assuming {} (set --default-tolerance)",
+            defaults.tolerance
+        ));
+    }
+    if no_power > 0 {
+        warnings.push(format!(
+            "{file}: {no_power} row(s) give no power rating; assuming {} (set --default-power)",
+            defaults.power
+        ));
+    }
+    Ok(Stock {
+        file: file.to_string(),
+        parts,
+        rows,
+        delimiter,
+        warnings,
+    })
+}
+
+impl Stock {
+    /// Total pieces on hand.
+    pub fn pieces(&self) -> u64 {
+        self.parts.iter().map(|p| p.qty as u64).sum()
+    }
+
+    /// A stock built in code (benchmarks, tests): each part once, on no line of any file.
+    pub fn from_parts(name: &str, parts: Vec<Part>) -> Stock {
+        Stock {
+            file: name.to_string(),
+            rows: Vec::new(),
+            parts,
+            delimiter: b',',
+            warnings: Vec::new(),
+        }
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    fn load_str(s: &str) -> Result<Stock, StockError> {
+        parse("test.csv", s.as_bytes(), Defaults::default())
+    }
+
+    #[test]
+    fn reads_columns_in_any_order_and_case() {
+        let s = load_str("Location,QTY,Value,Power,Tolerance,colour\nA1,10,4k7,0.25W,5%,yellow\nA2,3,10k,1/8W,F,brown\n")
+            .unwrap();
+        assert_eq!(s.parts.len(), 2);
+        assert_eq!(s.parts[0].ohms, Ohms(4700.0));
+        assert_eq!(s.parts[1].tolerance, Tolerance(0.01));
+        assert_eq!(s.parts[1].power, Watts(0.125));
+        assert_eq!(s.parts[1].location().as_deref(), Some("A2"));
+        assert_eq!(s.pieces(), 13);
+        assert!(s.warnings.is_empty());
+    }
+
+    #[test]
+    fn bom_crlf_blank_lines_and_comments() {
+        let text = "\u{feff}# my drawer\r\nvalue,qty\r\n\r\n# 1k row\r\n1k,5\r\n\r\n2k2,4\r\n";
+        let s = load_str(text).unwrap();
+        assert_eq!(s.parts.len(), 2);
+        assert_eq!(s.rows[0].line, 5);
+        assert_eq!(s.rows[1].line, 7);
+        // Defaults applied, each said once.
+        assert_eq!(s.warnings.len(), 2);
+        assert!(s.warnings[0].contains("2 row(s) give no tolerance; assuming 5 %"));
+    }
+
+    #[test]
+    fn detects_semicolons_and_tabs() {
+        let s = load_str("value;qty;location\n4k7;2;B3\n").unwrap();
+        assert_eq!(s.delimiter, b';');
+        assert_eq!(s.parts[0].qty, 2);
+        assert!(s.warnings[0].contains("semicolon"));
+        let s = load_str("value\tqty\n4k7\t2\n").unwrap();
+        assert_eq!(s.delimiter, b'\t');
+    }
+
+    #[test]
+    fn merges_equal_parts() {
+        let s = load_str("value,qty,tolerance,power,location\n4k7,3,5%,0.25W,A1\n4700,2,0.05,250mW,B2\n4.7k,1,J,1/4W,A1\n4k7,1,1%,0.25W,C\n")
+            .unwrap();
+        assert_eq!(s.parts.len(), 2);
+        assert_eq!(s.parts[0].qty, 6);
+        assert_eq!(s.parts[0].locations, vec!["A1", "B2"]);
+        assert_eq!(s.parts[0].lines, vec![2, 3, 4]);
+        assert_eq!(s.rows.len(), 4);
+    }
+
+    #[test]
+    fn every_bad_row_names_file_line_and_column() {
+        let cases = [
+            (
+                "value,qty\n4k7,-3\n",
+                "test.csv:2: column qty: \"-3\" is not a quantity",
+            ),
+            ("value,qty\n4k7,2.5\n", "test.csv:2: column qty: \"2.5\""),
+            ("value,qty\n4k7k,2\n", "test.csv:2: column value: \"4k7k\""),
+            ("value,qty\n1e30,2\n", "test.csv:2: column value: \"1e30\""),
+            (
+                "value,qty,tolerance\n1k,2,150%\n",
+                "test.csv:2: column tolerance: \"150%\"",
+            ),
+            (
+                "value,qty,power\n1k,2,lots\n",
+                "test.csv:2: column power: \"lots\"",
+            ),
+            (
+                "value,qty\n1k,2\n,3\n",
+                "test.csv:3: column value: the value is missing",
+            ),
+            ("value,qty\n1k\n", "test.csv:2: column qty: \"\""),
+            (
+                "value,qty\n1k,2,3\n",
+                "test.csv:2: the row has 3 fields but the header has 2",
+            ),
+            ("ohm,count\n1k,2\n", "test.csv:1: no 'value' column"),
+            ("value,pieces\n1k,2\n", "test.csv:1: no 'qty' column"),
+            ("value,qty,Value\n1k,2,1k\n", "names column 'Value' twice"),
+            ("", "has no header row"),
+            ("# only a comment\n", "has no header row"),
+        ];
+        for (text, want) in cases {
+            let err = load_str(text).expect_err(text).to_string();
+            assert!(err.contains(want), "{text:?}: {err}");
+        }
+    }
+
+    #[test]
+    fn non_utf8_is_refused_with_its_line() {
+        let err = parse(
+            "x.csv",
+            b"value,qty\n4k7,1\n\xff\xfe,2\n",
+            Defaults::default(),
+        )
+        .unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "x.csv:3: the file is not UTF-8 text (byte 1); save it as UTF-8 CSV"
+        );
+    }
+
+    #[test]
+    fn zero_quantity_rows_are_kept() {
+        let s = load_str("value,qty\n1k,0\n").unwrap();
+        assert_eq!(s.parts[0].qty, 0);
+    }
+}
