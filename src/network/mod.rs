@@ -4,6 +4,8 @@
 //! A network's members are concrete resistors ([`Member`]), each with its tolerance, rating and (when it
 //! comes from stock) its location and stock index, so that checks and pick lists need nothing else.
 
+pub mod candidates;
+
 use crate::notation::value::code;
 use crate::units::{Amps, Ohms, Tolerance, Volts, Watts};
 use serde::Serialize;
