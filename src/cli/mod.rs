@@ -3,6 +3,7 @@
 //! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
+mod fix;
 mod output;
 mod stock;
 
@@ -23,11 +24,12 @@ pub struct Cli {
 enum Command {
     /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
     Stock(stock::StockArgs),
+    /// The best one-, two- or three-resistor networks from stock for one value
+    Fix(fix::FixArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
 #[derive(Debug)]
-#[allow(dead_code)] // Infeasible and ChecksFailed come into use with the design and check commands.
 pub enum Failure {
     /// The input (a flag, a file, a value) was refused.
     Input(String),
@@ -68,6 +70,7 @@ pub fn main() -> ExitCode {
     let mut out = Out::stdout();
     let result = match cli.command {
         Command::Stock(args) => stock::run(args, &mut out),
+        Command::Fix(args) => fix::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
