@@ -168,7 +168,28 @@ impl Model<'_> {
 /// Only the resistor-rating checks decide acceptance here; the others are the electrical ones, already
 /// applied, or the transistor's own limits, which the resistor choice barely moves and which the report shows.
 fn ratings_ok(checks: &[Check]) -> bool {
-    checks.iter().filter(|c| c.is_resistor_power()).all(|c| c.ok)
+    checks.iter().filter(|c| is_resistor_power(c)).all(|c| c.ok)
+}
+
+/// Whether a check is a resistor's dissipation against its derated rating (the stage names them "power R1",
+/// "power R1 part 2 (4k7)"; the transistor's is "transistor power").
+fn is_resistor_power(c: &Check) -> bool {
+    c.name.starts_with("power ")
+}
+
+/// A failed check in words: "stiffness 7.2 (needs ≥ 10)".
+fn describe(c: &Check) -> String {
+    use crate::notation::{engineering, trim_number};
+    use crate::stage::CheckUnit;
+    let show = |x: f64| match c.unit {
+        CheckUnit::Ratio => trim_number(x, 3),
+        CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
+        CheckUnit::Amps => engineering(x, "A"),
+        CheckUnit::Volts => engineering(x, "V"),
+        CheckUnit::Watts => engineering(x, "W"),
+    };
+    let op = if c.at_least { "≥" } else { "≤" };
+    format!("{} {} (needs {op} {})", c.name, show(c.value), show(c.limit))
 }
 
 impl Evaluate for Model<'_> {
@@ -420,7 +441,7 @@ fn infeasible(
                 .checks(&nets)
                 .into_iter()
                 .filter(|c| !c.ok)
-                .map(|c| c.describe())
+                .map(|c| describe(&c))
                 .collect();
             let short = f.uses.iter().any(|&(p, n)| on_hand[p] < n);
             let mut why = if failing.is_empty() && short {

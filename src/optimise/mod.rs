@@ -7,6 +7,7 @@
 //! over-drawn.
 
 pub mod search;
+pub mod design;
 pub mod share;
 
 pub use share::{allocate, Allocation, ShareError, Variant};
