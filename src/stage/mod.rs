@@ -886,7 +886,7 @@ impl Stage {
             }
         }
         if let Some(s) = self.stiffness_of(&res) {
-            if s.is_nan() || s < self.rule.stiffness {
+            if s.is_nan() || s < self.rule.stiffness * (1.0 - checks::SLACK) {
                 return false;
             }
         }
@@ -894,7 +894,7 @@ impl Stage {
             self.divider_current_max(&res),
             self.targets().divider_current,
         ) {
-            if i.is_nan() || i > self.rule.divider_max * design.0 {
+            if i.is_nan() || i > self.rule.divider_max * design.0 * (1.0 + checks::SLACK) {
                 return false;
             }
         }
