@@ -45,7 +45,7 @@ fn main() {
         .stages
         .remove(0);
     let calls = 2_000_000;
-    let mut row = |label: &str, s: &Stage| {
+    let row = |label: &str, s: &Stage| {
         let vs = values(s);
         let mut i = 0;
         let e = per_call(
