@@ -9,6 +9,7 @@
 
 pub mod network;
 pub mod notation;
+pub mod optimise;
 pub mod report;
 pub mod stage;
 pub mod stock;

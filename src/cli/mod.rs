@@ -4,6 +4,8 @@
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
 mod check;
+mod design;
+mod fix;
 mod ideal;
 mod output;
 mod stock;
@@ -25,15 +27,18 @@ pub struct Cli {
 enum Command {
     /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
     Stock(stock::StockArgs),
+    /// The best one-, two- or three-resistor networks from stock for one value
+    Fix(fix::FixArgs),
     /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
     Ideal(ideal::IdealArgs),
     /// Evaluate a stage built from given networks: the exact operating point and every check
     Check(check::CheckArgs),
+    /// Fill every slot of every stage from stock so the operating points land closest to their targets
+    Design(design::DesignArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
 #[derive(Debug)]
-#[allow(dead_code)] // Infeasible comes into use with the design command.
 pub enum Failure {
     /// The input (a flag, a file, a value) was refused.
     Input(String),
@@ -74,8 +79,10 @@ pub fn main() -> ExitCode {
     let mut out = Out::stdout();
     let result = match cli.command {
         Command::Stock(args) => stock::run(args, &mut out),
+        Command::Fix(args) => fix::run(args, &mut out),
         Command::Ideal(args) => ideal::run(args, &mut out),
         Command::Check(args) => check::run(args, &mut out),
+        Command::Design(args) => design::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,
