@@ -230,3 +230,36 @@ fn fifty_volts_and_up_prints_the_caution() {
     let low = json(&biasfit(&["ideal", "examples/line-driver.toml", "--json"]));
     assert_eq!(low["cautions"].as_array().unwrap().len(), 0);
 }
+
+#[test]
+fn readme_shows_real_output_and_a_valid_design_file() {
+    let readme =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    for (args, shown) in [
+        (
+            vec!["ideal", "examples/line-driver.toml"],
+            "$ biasfit ideal examples/line-driver.toml\n",
+        ),
+        (
+            vec![
+                "check",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+            ],
+            "$ biasfit check examples/line-driver.toml --use R1=39k,R2=7k5,RC=2k7,RE=560+39\n",
+        ),
+    ] {
+        let out = String::from_utf8(biasfit(&args).stdout).unwrap();
+        let block = format!("{shown}{out}```");
+        assert!(
+            readme.contains(&block),
+            "README's output of {args:?} is stale; it is now:\n{out}"
+        );
+    }
+    let start = readme.find("### Design file (TOML)").unwrap();
+    let toml_start = readme[start..].find("```toml\n").unwrap() + start + 8;
+    let toml_end = readme[toml_start..].find("```").unwrap() + toml_start;
+    let design = biasfit::stage::parse("README.md", &readme[toml_start..toml_end]).unwrap();
+    assert_eq!(design.stages[0].name, "line driver");
+}
