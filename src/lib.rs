@@ -10,6 +10,8 @@
 pub mod network;
 pub mod notation;
 pub mod optimise;
+pub mod order;
+pub mod save;
 pub mod stock;
 pub mod units;
 
