@@ -84,6 +84,29 @@ pub fn temp_prefix(path: &Path) -> String {
     )
 }
 
+/// Temporary files an interrupted write (a kill, a power cut) left beside `path`, oldest name first.
+pub fn leftovers(path: &Path) -> Vec<PathBuf> {
+    let target = resolve(path);
+    let dir = match target.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => PathBuf::from("."),
+    };
+    let prefix = temp_prefix(&target);
+    let mut found: Vec<PathBuf> = std::fs::read_dir(&dir)
+        .into_iter()
+        .flatten()
+        .flatten()
+        .filter(|e| {
+            let name = e.file_name();
+            let name = name.to_string_lossy();
+            name.starts_with(&prefix) && name.ends_with(".tmp")
+        })
+        .map(|e| e.path())
+        .collect();
+    found.sort();
+    found
+}
+
 impl Saver {
     /// A writer with no test hooks.
     pub fn new() -> Saver {

@@ -502,6 +502,35 @@ mod tests {
         assert_eq!((line.qty, line.packs), (100, 1));
     }
 
+    #[test]
+    fn the_demo_catalogue_holds_e24_and_e96_in_three_pack_sizes() {
+        let path = Path::new(env!("CARGO_MANIFEST_DIR")).join("stock/demo-catalogue.csv");
+        let c = Catalogue::load(&path).unwrap();
+        assert!(c.warnings.is_empty(), "{:?}", c.warnings);
+        let at = |tol: f64| {
+            c.items
+                .iter()
+                .filter(move |i| i.tolerance == Tolerance(tol))
+        };
+        // IEC 60063: 24 and 96 values a decade; 10 Ω to 1 MΩ is 5 decades plus the end value.
+        assert_eq!(at(0.05).count(), 5 * 24 + 1);
+        assert_eq!(at(0.01).count(), 5 * 96 + 1);
+        assert!(at(0.05).all(|i| Series::E24.contains(i.ohms)));
+        assert!(at(0.01).all(|i| Series::E96.contains(i.ohms)));
+        for i in &c.items {
+            let mut packs: Vec<u32> = i.offers.iter().map(|o| o.pack).collect();
+            packs.sort();
+            assert_eq!(packs, [1, 10, 100], "{}", i.spec());
+            // A bigger pack costs less a piece (the demo's premise).
+            let price = |p: u32| i.offers.iter().find(|o| o.pack == p).unwrap().unit_price;
+            assert!(
+                price(1) > price(10) && price(10) > price(100),
+                "{}",
+                i.spec()
+            );
+        }
+    }
+
     /// The cheapest cost over every mix of pack counts that covers `pieces`, for checking the knapsack.
     fn brute_force(i: &Item, pieces: u32) -> f64 {
         let mut best = f64::INFINITY;

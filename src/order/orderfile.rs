@@ -4,7 +4,8 @@
 //! The header is `value,tolerance,power,qty,packs,cost`: the value in the IEC 60062 code (`4k7`), the
 //! tolerance as a percentage (`1%`), the power in watts (`0.25W`), `qty` the pieces bought (whole packs, so
 //! at least the pieces needed), `packs` how many packs that is, and `cost` what they cost in the catalogue's
-//! currency. Reading uses the stock file's rules and finds columns by name; packs and cost are not read.
+//! currency. Reading uses the stock file's rules and finds columns by name; packs and cost are not read, and
+//! an optional location column (added by hand) says which stock row the pieces go to.
 
 use super::{power_text, tolerance_text, Money};
 use crate::notation::{code, parse_ohms, parse_tolerance, parse_watts};
@@ -78,6 +79,11 @@ pub const SCHEMA: Schema = Schema {
             aliases: &["power", "rating"],
             required: false,
         },
+        Column {
+            name: "location",
+            aliases: &["location", "bin"],
+            required: false,
+        },
     ],
     example_header: HEADER,
 };
@@ -93,6 +99,8 @@ pub struct Arrival {
     pub power: Watts,
     /// Pieces that arrived.
     pub qty: u32,
+    /// Where they go, if the file has a location column (not one `biasfit order` writes).
+    pub location: Option<String>,
     /// The order file's line.
     pub line: usize,
 }
@@ -154,6 +162,7 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Arrivals, C
             tolerance,
             power,
             qty,
+            location: Some(get("location").to_string()).filter(|l| !l.is_empty()),
             line: record.line,
         });
     }

@@ -413,14 +413,14 @@ impl Edit {
             .collect();
         out.push('\n');
         for r in &rows {
-            let mut line = String::from(" ");
+            let mut line = String::new();
             for (c, cell) in r.iter().enumerate() {
                 let pad = widths[c] - cell.chars().count();
                 // Numbers right-aligned, words left-aligned.
                 if matches!(c, 0 | 5 | 6) {
-                    let _ = write!(line, " {}{cell}", " ".repeat(pad));
+                    let _ = write!(line, "  {}{cell}", " ".repeat(pad));
                 } else {
-                    let _ = write!(line, " {cell}{}", " ".repeat(pad));
+                    let _ = write!(line, "  {cell}{}", " ".repeat(pad));
                 }
             }
             let _ = writeln!(out, "{}", line.trim_end());
@@ -564,14 +564,21 @@ fn value_text(ohms: Ohms) -> String {
     }
 }
 
-/// Adds what arrived: each part's first row (in file order) gets its qty raised, and parts the stock does not
-/// list are appended as new rows, one per part, with location "new" where the file has that column. `order`
-/// names the order file in messages.
+/// Adds what arrived: each part's row at the arrival's location, or else its first row in file order, gets its
+/// qty raised; parts the stock does not list are appended as new rows, one per part, at the arrival's location
+/// or "new" where the file has a location column. `order` names the order file in messages.
 pub fn add(sf: &StockFile, order: &str, arrivals: &[Arrival]) -> Result<Edit, TakeError> {
     let s = &sf.stock;
     let layout = &s.layout;
     let mut qty: Vec<u64> = s.rows.iter().map(|r| r.qty as u64).collect();
-    let mut new: Vec<(Spec, u64, usize)> = Vec::new();
+    // A new part for each (spec, location), with the pieces and the first order line asking for it.
+    struct Appended {
+        spec: Spec,
+        qty: u64,
+        location: Option<String>,
+        line: usize,
+    }
+    let mut new: Vec<Appended> = Vec::new();
     for a in arrivals.iter().filter(|a| a.qty > 0) {
         let spec = Spec {
             ohms: a.ohms,
@@ -580,10 +587,11 @@ pub fn add(sf: &StockFile, order: &str, arrivals: &[Arrival]) -> Result<Edit, Ta
         };
         match s.parts.iter().position(|q| Spec::of(q).matches(&spec)) {
             Some(id) => {
-                let r = s
-                    .rows
-                    .iter()
-                    .position(|r| r.part == id)
+                let mut rows = (0..s.rows.len()).filter(|&r| s.rows[r].part == id);
+                let first = rows.clone().next();
+                let r = rows
+                    .find(|&r| named(s.rows[r].location.as_deref(), a.location.as_deref()))
+                    .or(first)
                     .expect("every part comes from at least one row");
                 qty[r] += a.qty as u64;
                 if qty[r] > u32::MAX as u64 {
@@ -619,9 +627,17 @@ pub fn add(sf: &StockFile, order: &str, arrivals: &[Arrival]) -> Result<Edit, Ta
                         });
                     }
                 }
-                match new.iter_mut().find(|(x, _, _)| x.matches(&spec)) {
-                    Some(n) => n.1 += a.qty as u64,
-                    None => new.push((spec, a.qty as u64, a.line)),
+                match new
+                    .iter_mut()
+                    .find(|n| n.spec.matches(&spec) && n.location == a.location)
+                {
+                    Some(n) => n.qty += a.qty as u64,
+                    None => new.push(Appended {
+                        spec,
+                        qty: a.qty as u64,
+                        location: a.location.clone(),
+                        line: a.line,
+                    }),
                 }
             }
         }
@@ -634,12 +650,13 @@ pub fn add(sf: &StockFile, order: &str, arrivals: &[Arrival]) -> Result<Edit, Ta
     }
     let first_line = sf.bytes.iter().filter(|&&b| b == b'\n').count() + 1 + tail.len().min(1);
     let mut added = Vec::new();
-    for (line, (spec, n, order_line)) in (first_line..).zip(new) {
-        let n = u32::try_from(n).map_err(|_| TakeError::Overflow {
-            file: s.file.clone(),
-            line: order_line,
+    for (line, a) in (first_line..).zip(new) {
+        let spec = a.spec;
+        let n = u32::try_from(a.qty).map_err(|_| TakeError::Overflow {
+            file: order.to_string(),
+            line: a.line,
             spec,
-            adding: n,
+            adding: a.qty,
         })?;
         let (value, count, tol, power) = (
             value_text(spec.ohms),
@@ -652,7 +669,7 @@ pub fn add(sf: &StockFile, order: &str, arrivals: &[Arrival]) -> Result<Edit, Ta
             ("qty", &count),
             ("tolerance", &tol),
             ("power", &power),
-            ("location", "new"),
+            ("location", a.location.as_deref().unwrap_or("new")),
         ]));
         added.push(NewRow {
             line,
@@ -788,6 +805,7 @@ mod tests {
                 tolerance: Tolerance(0.05),
                 power: Watts(0.25),
                 qty: 100,
+                location: None,
                 line: 2,
             },
             Arrival {
@@ -795,6 +813,7 @@ mod tests {
                 tolerance: Tolerance(0.01),
                 power: Watts(0.25),
                 qty: 10,
+                location: None,
                 line: 3,
             },
             Arrival {
@@ -802,6 +821,7 @@ mod tests {
                 tolerance: Tolerance(0.01),
                 power: Watts(0.25),
                 qty: 5,
+                location: None,
                 line: 4,
             },
         ];
@@ -827,6 +847,7 @@ mod tests {
             tolerance: Tolerance(tol),
             power: Watts(0.25),
             qty: 3,
+            location: None,
             line: 2,
         };
         let e = add(&s, "o.csv", &[a(0.05)]).unwrap();
@@ -851,6 +872,7 @@ mod tests {
                 tolerance: Tolerance(0.05),
                 power: Watts(0.25),
                 qty: 10,
+                location: None,
                 line: 2,
             }],
         )
@@ -924,6 +946,29 @@ mod tests {
         let arrivals = orderfile::parse("o.csv", order.as_bytes(), Defaults::default()).unwrap();
         let back = add(&taken, "o.csv", &arrivals.rows).unwrap();
         assert_eq!(text(&back), DRAWER);
+    }
+
+    #[test]
+    fn an_order_with_locations_puts_pieces_back_where_they_came_from() {
+        let s = sf(DRAWER);
+        let e = take(&s, &[pick(3300.0, 0.05, 0.25, Some("B;2"), 3)]).unwrap();
+        assert_eq!((e.changes[0].line, e.changes[0].after), (6, 1));
+        let taken = StockFile::parse("s.csv", e.contents, Defaults::default()).unwrap();
+        let order = |location: &str| {
+            let text = format!("value,tolerance,power,qty,location\n3k3,5%,0.25W,3,{location}\n5k6,5%,0.25W,2,{location}\n");
+            orderfile::parse("o.csv", text.as_bytes(), Defaults::default())
+                .unwrap()
+                .rows
+        };
+        let back = add(&taken, "o.csv", &order("\"B;2\"")).unwrap();
+        assert_eq!(
+            text(&back),
+            DRAWER.to_string() + "5k6;2;5%;0.25W;\"B;2\";\r\n"
+        );
+        // Without a location the pieces go to the part's first row.
+        let back = add(&taken, "o.csv", &order("")).unwrap();
+        assert_eq!(back.changes[0].line, 4);
+        assert!(text(&back).ends_with("5k6;2;5%;0.25W;new;\r\n"));
     }
 
     proptest! {

@@ -12,7 +12,7 @@ pub mod table;
 
 use crate::notation::{parse_ohms, parse_tolerance, parse_watts};
 use crate::units::{Ohms, Tolerance, Watts};
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::path::Path;
 use table::{Column, Schema, Table};
@@ -154,6 +154,7 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
     let mut rows = Vec::with_capacity(table.records.len());
     let mut by_key: HashMap<(u64, u64, u64), usize> = HashMap::new();
     let (mut no_tolerance, mut no_power) = (0usize, 0usize);
+    let mut seen_locations: HashSet<(usize, &str)> = HashSet::new();
     for record in &table.records {
         let line = record.line;
         let get = |column: &str| table.get(record, column);
@@ -210,7 +211,8 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         })?;
         part.lines.push(line);
         let location = get("location");
-        if !location.is_empty() && !part.locations.iter().any(|l| l == location) {
+        // A set per part keeps this linear: a large stock can give one part thousands of bins.
+        if !location.is_empty() && seen_locations.insert((id, location)) {
             part.locations.push(location.to_string());
         }
         let note = get("note");
