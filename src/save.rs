@@ -149,7 +149,10 @@ impl Saver {
             return Err(SaveError::Changed { file });
         }
         let permissions = std::fs::metadata(&target).ok().map(|m| m.permissions());
-        let backup = backup_path(&target);
+        // Beside the link's target when the path is a link; otherwise beside the path as given, so that
+        // messages name it the way the user does.
+        let is_link = std::fs::symlink_metadata(path).is_ok_and(|m| m.file_type().is_symlink());
+        let backup = backup_path(if is_link { &target } else { path });
         // The backup goes first: once the new contents are in place, the old ones must already be safe.
         self.write_via_temp(&backup, &backup, previous, permissions.clone(), false)?;
         self.write_via_temp(path, &target, contents, permissions, true)?;
@@ -368,7 +371,9 @@ mod tests {
         let link = dir.join("link.csv");
         std::fs::write(&real, b"old").unwrap();
         std::os::unix::fs::symlink(&real, &link).unwrap();
-        Saver::new().replace(&link, b"old", b"new").unwrap();
+        let r = Saver::new().replace(&link, b"old", b"new").unwrap();
+        assert_eq!(std::fs::read(dir.join("real.csv.bak")).unwrap(), b"old");
+        assert!(r.backup.ends_with("real.csv.bak"));
         assert!(std::fs::symlink_metadata(&link)
             .unwrap()
             .file_type()

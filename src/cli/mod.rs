@@ -3,8 +3,8 @@
 //! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
-mod fix;
 mod check;
+mod fix;
 mod ideal;
 mod output;
 mod stock;
