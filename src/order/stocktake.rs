@@ -336,7 +336,7 @@ impl Edit {
         self.changes.is_empty() && self.added.is_empty()
     }
 
-    /// Pieces removed minus pieces added is negative for an add; this is the net change in pieces.
+    /// The net change in pieces: negative for a take, positive for an add.
     pub fn net_pieces(&self) -> i64 {
         self.changes
             .iter()
@@ -349,6 +349,10 @@ impl Edit {
     pub fn render(&self) -> String {
         use std::fmt::Write;
         let mut out = String::new();
+        if self.is_empty() {
+            let _ = writeln!(out, "{}: nothing to change", self.file);
+            return out;
+        }
         let net = self.net_pieces();
         let what = if net < 0 {
             format!("took {} piece(s)", -net)
@@ -362,9 +366,6 @@ impl Edit {
             self.changes.len(),
             self.added.len()
         );
-        if self.is_empty() {
-            return out;
-        }
         let mut rows: Vec<[String; 7]> = vec![[
             "line".into(),
             "value".into(),
@@ -746,6 +747,28 @@ mod tests {
             (4, 12, 0)
         );
         assert_eq!(e.net_pieces(), -16);
+    }
+
+    #[test]
+    fn an_empty_pick_list_changes_nothing() {
+        let s = sf(DRAWER);
+        let e = take(&s, &[pick(3300.0, 0.05, 0.25, None, 0)]).unwrap();
+        assert!(e.is_empty());
+        assert_eq!(e.contents, s.bytes);
+        assert_eq!(e.render(), "s.csv: nothing to change\n");
+    }
+
+    #[test]
+    fn the_report_is_an_aligned_table() {
+        let s = sf(DRAWER);
+        let e = take(&s, &[pick(3300.0, 0.05, 0.25, Some("B;2"), 6)]).unwrap();
+        assert_eq!(
+            e.render(),
+            "s.csv: took 6 piece(s); 2 row(s) changed, 0 row(s) new\n\n\
+             \x20 line  value  tolerance  power   location  before  after\n\
+             \x20    4  3k3    5 %        250 mW  A1            12     10\n\
+             \x20    6  3k3    5 %        250 mW  B;2            4      0\n"
+        );
     }
 
     #[test]
