@@ -362,3 +362,46 @@ fn the_plain_summary_still_works_beside_the_subcommands() {
     let o = run(&["stock", s(&fixture("drawer.csv")), "take"]);
     assert_eq!(o.status.code(), Some(2));
 }
+
+#[test]
+fn what_design_writes_is_what_take_reads() {
+    // The contract between the two commands: design --json's "copies" and "pick", taken from the same stock.
+    let (dir, stock) = scratch("design-contract", false);
+    std::fs::copy(
+        Path::new(env!("CARGO_MANIFEST_DIR")).join("stock/hobby-drawer.csv"),
+        &stock,
+    )
+    .unwrap();
+    let design = Path::new(env!("CARGO_MANIFEST_DIR")).join("examples/sensor-preamp.toml");
+    // Single parts per slot keep the search quick; the JSON shape is the same.
+    let o = run(&[
+        "design",
+        s(&design),
+        "--stock",
+        s(&stock),
+        "--parts",
+        "1",
+        "--json",
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let result = dir.join("design.json");
+    std::fs::write(&result, &o.stdout).unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&o.stdout).unwrap();
+    let picked: u64 = v["pick"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|p| p["count"].as_u64().unwrap())
+        .sum();
+    assert!(picked > 0);
+    let pieces = |p: &Path| {
+        let o = run(&["stock", s(p), "--json"]);
+        serde_json::from_slice::<serde_json::Value>(&o.stdout).unwrap()["pieces"]
+            .as_u64()
+            .unwrap()
+    };
+    let before = pieces(&stock);
+    let o = run(&["stock", "take", s(&stock), "--result", s(&result)]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    assert_eq!(pieces(&stock), before - picked);
+}
