@@ -10,6 +10,8 @@
 pub mod network;
 pub mod notation;
 pub mod optimise;
+pub mod report;
+pub mod stage;
 pub mod stock;
 pub mod units;
 

@@ -3,6 +3,8 @@
 //! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
+mod check;
+mod ideal;
 mod output;
 mod stock;
 
@@ -23,11 +25,15 @@ pub struct Cli {
 enum Command {
     /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
     Stock(stock::StockArgs),
+    /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
+    Ideal(ideal::IdealArgs),
+    /// Evaluate a stage built from given networks: the exact operating point and every check
+    Check(check::CheckArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
 #[derive(Debug)]
-#[allow(dead_code)] // Infeasible and ChecksFailed come into use with the design and check commands.
+#[allow(dead_code)] // Infeasible comes into use with the design command.
 pub enum Failure {
     /// The input (a flag, a file, a value) was refused.
     Input(String),
@@ -68,6 +74,8 @@ pub fn main() -> ExitCode {
     let mut out = Out::stdout();
     let result = match cli.command {
         Command::Stock(args) => stock::run(args, &mut out),
+        Command::Ideal(args) => ideal::run(args, &mut out),
+        Command::Check(args) => check::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

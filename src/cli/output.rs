@@ -28,7 +28,6 @@ impl Out {
     }
 
     /// Whether to colour the output.
-    #[allow(dead_code)]
     pub fn colour(&self) -> bool {
         self.colour
     }
