@@ -3,6 +3,7 @@
 //! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
+mod fix;
 mod check;
 mod ideal;
 mod output;
@@ -25,6 +26,8 @@ pub struct Cli {
 enum Command {
     /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
     Stock(stock::StockArgs),
+    /// The best one-, two- or three-resistor networks from stock for one value
+    Fix(fix::FixArgs),
     /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
     Ideal(ideal::IdealArgs),
     /// Evaluate a stage built from given networks: the exact operating point and every check
@@ -74,6 +77,7 @@ pub fn main() -> ExitCode {
     let mut out = Out::stdout();
     let result = match cli.command {
         Command::Stock(args) => stock::run(args, &mut out),
+        Command::Fix(args) => fix::run(args, &mut out),
         Command::Ideal(args) => ideal::run(args, &mut out),
         Command::Check(args) => check::run(args, &mut out),
     };

@@ -3,8 +3,11 @@
 //!
 //! A network's members are concrete resistors ([`Member`]), each with its tolerance, rating and (when it
 //! comes from stock) its location and stock index, so that checks and pick lists need nothing else.
+//! [`candidates`] finds the networks a stock can build for a value; [`fix`] turns the best of them into the
+//! `fix` report.
 
 pub mod candidates;
+pub mod fix;
 
 use crate::notation::value::code;
 use crate::units::{Amps, Ohms, Tolerance, Volts, Watts};

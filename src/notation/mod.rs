@@ -11,6 +11,7 @@ pub mod value;
 pub use eseries::Series;
 pub use network::{parse_network, NetworkError};
 pub use quantity::{
-    engineering, parse_amps, parse_tolerance, parse_volts, parse_watts, trim_number, QuantityError,
+    engineering, parse_amps, parse_power, parse_tolerance, parse_volts, parse_watts, trim_number,
+    QuantityError,
 };
 pub use value::{code, parse_ohms, Code, ValueError};

@@ -97,12 +97,28 @@ pub fn parse_amps(input: &str) -> Result<Amps, QuantityError> {
 
 /// Reads a power rating: "0.25W", "1/4W", "250mW", "0.6 W". It must lie between 1 mW and 10 kW.
 pub fn parse_watts(input: &str) -> Result<Watts, QuantityError> {
-    const EXAMPLE: &str = "a power such as 0.25W, 1/4W, 250mW or 0.6 W";
+    let value = parse_power(input)?.0;
+    if !(1e-3..=1e4).contains(&value) {
+        return Err(QuantityError {
+            input: input.to_string(),
+            what: "power",
+            reason: "it is outside 1 mW to 10 kW".to_string(),
+            example: POWER_EXAMPLE,
+        });
+    }
+    Ok(Watts(value))
+}
+
+const POWER_EXAMPLE: &str = "a power such as 0.25W, 1/4W, 250mW or 0.6 W";
+
+/// Reads a power in the same forms as [`parse_watts`], with any value above zero: a dissipation, unlike a
+/// rating, may be tiny.
+pub fn parse_power(input: &str) -> Result<Watts, QuantityError> {
     let refuse = |reason: &str| QuantityError {
         input: input.to_string(),
         what: "power",
         reason: reason.to_string(),
-        example: EXAMPLE,
+        example: POWER_EXAMPLE,
     };
     let t = input.trim();
     let value = if let Some((num, den)) = t.split_once('/') {
@@ -116,13 +132,10 @@ pub fn parse_watts(input: &str) -> Result<Watts, QuantityError> {
         }
         n / d
     } else {
-        parse_si(input, 'W', "power", EXAMPLE)?
+        parse_si(input, 'W', "power", POWER_EXAMPLE)?
     };
     if !value.is_finite() || value <= 0.0 {
-        return Err(refuse("a power rating must be greater than zero"));
-    }
-    if !(1e-3..=1e4).contains(&value) {
-        return Err(refuse("it is outside 1 mW to 10 kW"));
+        return Err(refuse("a power must be greater than zero"));
     }
     Ok(Watts(value))
 }
@@ -267,6 +280,12 @@ mod tests {
         }
         for s in ["", "0W", "-1W", "1/0W", "a/4W", "quarter", "1e9W", "NaN"] {
             assert!(parse_watts(s).is_err(), "{s}");
+        }
+        // A dissipation may be far below any rating.
+        assert!((parse_power("200uW").unwrap().0 - 200e-6).abs() < 1e-18);
+        assert!(parse_watts("200uW").is_err());
+        for s in ["", "0W", "-1W", "1/0W", "NaN"] {
+            assert!(parse_power(s).is_err(), "{s}");
         }
     }
 

@@ -433,6 +433,8 @@ mod tests {
             ohms: Ohms(ohms),
             uses: vec![(part, 1)],
             parts: 1,
+            band: (-0.05, 0.05),
+            left: 0,
         }
     }
 
