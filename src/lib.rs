@@ -11,6 +11,7 @@ pub mod network;
 pub mod notation;
 pub mod optimise;
 pub mod report;
+pub mod spread;
 pub mod stage;
 pub mod stock;
 pub mod units;

@@ -3,10 +3,11 @@
 //! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
-mod fix;
 mod check;
+mod fix;
 mod ideal;
 mod output;
+mod spread;
 mod stock;
 
 use clap::{Parser, Subcommand};
@@ -32,6 +33,8 @@ enum Command {
     Ideal(ideal::IdealArgs),
     /// Evaluate a stage built from given networks: the exact operating point and every check
     Check(check::CheckArgs),
+    /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
+    Spread(spread::SpreadArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
@@ -80,6 +83,7 @@ pub fn main() -> ExitCode {
         Command::Fix(args) => fix::run(args, &mut out),
         Command::Ideal(args) => ideal::run(args, &mut out),
         Command::Check(args) => check::run(args, &mut out),
+        Command::Spread(args) => spread::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

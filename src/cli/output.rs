@@ -55,6 +55,26 @@ impl Out {
     }
 }
 
+/// Writes a file atomically: a temporary file in the same folder, then a rename over the target, so a reader
+/// never sees it half-written.
+pub fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> Result<(), Failure> {
+    let fail = |e: std::io::Error| Failure::Io(format!("{}: cannot write: {e}", path.display()));
+    let dir = match path.parent() {
+        Some(d) if !d.as_os_str().is_empty() => d.to_path_buf(),
+        _ => std::path::PathBuf::from("."),
+    };
+    let name = path
+        .file_name()
+        .map(|n| n.to_string_lossy().into_owned())
+        .unwrap_or_else(|| "out".into());
+    let tmp = dir.join(format!(".{name}.{}.tmp", std::process::id()));
+    std::fs::write(&tmp, bytes).map_err(fail)?;
+    std::fs::rename(&tmp, path).map_err(|e| {
+        let _ = std::fs::remove_file(&tmp);
+        fail(e)
+    })
+}
+
 /// Prints warnings to stderr, each once, prefixed so they stand out from the report.
 pub fn warn_all(warnings: &[String]) {
     for w in warnings {
