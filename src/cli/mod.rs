@@ -4,6 +4,7 @@
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
 mod check;
+mod design;
 mod fix;
 mod ideal;
 mod output;
@@ -35,11 +36,12 @@ enum Command {
     Check(check::CheckArgs),
     /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
     Spread(spread::SpreadArgs),
+    /// Fill every slot of every stage from stock so the operating points land closest to their targets
+    Design(design::DesignArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
 #[derive(Debug)]
-#[allow(dead_code)] // Infeasible comes into use with the design command.
 pub enum Failure {
     /// The input (a flag, a file, a value) was refused.
     Input(String),
@@ -84,6 +86,7 @@ pub fn main() -> ExitCode {
         Command::Ideal(args) => ideal::run(args, &mut out),
         Command::Check(args) => check::run(args, &mut out),
         Command::Spread(args) => spread::run(args, &mut out),
+        Command::Design(args) => design::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -256,6 +256,9 @@ fn kept(network: &Network) -> Candidate {
     }
 }
 
+/// One stage's slots, their candidate lists, and the variants the search found.
+type Searched = (Vec<Slot>, Vec<Vec<Candidate>>, Vec<Found>);
+
 /// Designs every stage of `design` from `stock`.
 pub fn design(
     design: &Design,
@@ -266,7 +269,7 @@ pub fn design(
     let started = Instant::now();
     let on_hand: Vec<u32> = stock.parts.iter().map(|p| p.qty).collect();
     let mut variants: Vec<Variant> = Vec::new();
-    let mut found_per_stage: Vec<(Vec<Slot>, Vec<Vec<Candidate>>, Vec<Found>)> = Vec::new();
+    let mut found_per_stage: Vec<Searched> = Vec::new();
     let mut baseline = Vec::new();
     let mut evaluations = 0u64;
     let mut cut_short = false;

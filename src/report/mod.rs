@@ -5,6 +5,7 @@
 //! that evaluates built stages (check, ideal, and later design, fix, order and spread); it may gain keys but
 //! never loses or renames one. Relies on [`crate::stage`] for the numbers and [`crate::network`] for parts.
 
+pub mod design;
 pub mod histogram;
 pub mod result;
 pub mod spread;
