@@ -362,3 +362,104 @@ pub fn render_ideal(r: &Report, colour: bool) -> String {
     out.push_str(&cautions(r));
     out
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::network::{Member, Network};
+    use crate::notation::parse_network;
+    use crate::stage::{parse, Slot, SlotNetworks};
+    use crate::units::{Tolerance, Watts};
+
+    /// Compares a rendering with its stored snapshot; `BIASFIT_BLESS=1 cargo test` rewrites the snapshot
+    /// after a deliberate change (then read the diff before committing it).
+    fn snapshot(name: &str, text: &str) {
+        let path = format!("{}/src/report/snapshots/{name}", env!("CARGO_MANIFEST_DIR"));
+        if std::env::var_os("BIASFIT_BLESS").is_some() {
+            std::fs::write(&path, text).unwrap();
+        }
+        let stored = std::fs::read_to_string(&path).unwrap_or_default();
+        assert_eq!(text, stored, "{name} differs from its snapshot");
+    }
+
+    fn nets(pairs: &[(Slot, &str)]) -> SlotNetworks {
+        SlotNetworks::from_pairs(
+            pairs
+                .iter()
+                .map(|(s, n)| (*s, parse_network(n, Tolerance(0.05), Watts(0.25)).unwrap())),
+        )
+    }
+
+    #[test]
+    fn check_table_snapshot() {
+        let design = parse(
+            "line-driver.toml",
+            include_str!("../../examples/line-driver.toml"),
+        )
+        .unwrap();
+        let n = nets(&[
+            (Slot::R1, "39k"),
+            (Slot::R2, "6k8+560"),
+            (Slot::RC, "2k7"),
+            (Slot::RE, "(470+120)|10k"),
+        ]);
+        let r = Report::new(vec![StageReport::new(&design.stages[0], &n)]);
+        let text = render_check(&r, false);
+        snapshot("check-line-driver.txt", &text);
+        // Colour only adds escape sequences: the columns still line up.
+        let coloured = render_check(&r, true);
+        assert!(coloured.contains("\u{1b}[1;31mFAIL"));
+        let strip = |s: &str| {
+            s.replace("\u{1b}[1;31m", "")
+                .replace("\u{1b}[32m", "")
+                .replace("\u{1b}[0m", "")
+        };
+        assert_eq!(strip(&coloured), text);
+    }
+
+    #[test]
+    fn ideal_table_snapshot() {
+        let design = parse(
+            "split-emitter.toml",
+            include_str!("../../examples/split-emitter.toml"),
+        )
+        .unwrap();
+        let s = &design.stages[0];
+        let ideal = s.ideal().unwrap();
+        let n = SlotNetworks::from_pairs(ideal.values.iter().map(|(slot, r)| {
+            (
+                slot,
+                Network::Single(Member::loose(r, Tolerance(0.01), Watts(0.25))),
+            )
+        }));
+        let r = Report::new(vec![StageReport::new(s, &n).with_nearest()]);
+        snapshot("ideal-split-emitter.txt", &render_ideal(&r, false));
+    }
+
+    #[test]
+    fn high_voltage_and_hot_parts_print_the_caution() {
+        let text = "[[stage]]\ntopology = \"divider\"\nsupply = 60\nload = \"220\"\n\
+                    [stage.transistor]\nbeta = [60, 100, 160]\nvbe = 0.7\n";
+        let design = parse("hv.toml", text).unwrap();
+        let s = &design.stages[0];
+        let ideal = s.ideal().unwrap();
+        let n = SlotNetworks::from_pairs(ideal.values.iter().map(|(slot, r)| {
+            (
+                slot,
+                Network::Single(Member::loose(r, Tolerance(0.05), Watts(0.25))),
+            )
+        }));
+        let r = Report::new(vec![StageReport::new(s, &n)]);
+        let out = render_check(&r, false);
+        assert!(
+            out.contains("caution: stage \"stage 1\" spans 60 V"),
+            "{out}"
+        );
+        // 27 V across 220 Ω is 3.3 W in RC: far over a quarter-watt part.
+        let hot = out
+            .lines()
+            .find(|l| l.contains("over the derated limit"))
+            .unwrap();
+        assert!(hot.contains("power RC") && hot.contains("burn"), "{hot}");
+    }
+}
