@@ -50,6 +50,8 @@ impl SpreadReport {
 /// A slope with its sign and 3 decimals ("+0.912"), or "-" when there is none (cut off).
 fn slope(x: f64) -> String {
     if x.is_finite() {
+        // A slope that rounds to zero prints without a sign that rounding noise chose.
+        let x = if x.abs() < 5e-4 { 0.0 } else { x };
         format!("{x:+.3}")
     } else {
         "-".into()

@@ -2,7 +2,7 @@
 //!
 //! Three views of the same question. The worst case ([`corners`]) solves every corner of the resistor
 //! bands, beta's range and the temperature range, and gives the extremes of IC, VCE, VE, the stiffness and
-//! the dissipation, with the region at each. The Monte Carlo ([`monte_carlo`]) builds the stage many times
+//! the dissipation, with the region at each. The Monte Carlo ([`mod@monte_carlo`]) builds the stage many times
 //! from seeded random parts and counts how many builds meet the bench rule (IC and VCE within ±10 %, and
 //! ±5 %, of target). The sensitivities ([`sensitivity`]) say which slot, or beta, is to blame. Everything is
 //! computed with the stage's own exact solver ([`crate::stage::Stage::solve`]) on the chosen networks, whose
