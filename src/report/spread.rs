@@ -5,10 +5,10 @@
 use super::histogram::{self, share, Axis};
 use super::table::{cautions, heading, pnp_note, Grid};
 use super::{Report, StageReport};
-use crate::notation::{code, engineering, trim_number};
-use crate::spread::{Corner, Extremes, Sensitivity, StageSpread};
+use crate::notation::{code, trim_number};
+use crate::spread::{Corner, Extremes, Quantity, Sensitivity, StageSpread, Summary};
 use crate::stage::{SlotNetworks, Stage};
-use crate::units::{Ohms, Tolerance};
+use crate::units::{Amps, Ohms, Tolerance, Volts};
 use serde::Serialize;
 use std::fmt::Write;
 
@@ -82,12 +82,12 @@ fn corner_text(c: &Corner) -> String {
     )
 }
 
-fn extremes_row(
+fn extremes_row<T: Quantity>(
     g: &mut Grid,
     name: &str,
     limit: String,
-    e: &Extremes,
-    show: &dyn Fn(f64) -> String,
+    e: &Extremes<T>,
+    show: &dyn Fn(T) -> String,
 ) {
     g.row([
         name.to_string(),
@@ -96,6 +96,22 @@ fn extremes_row(
         e.min.region.name().to_string(),
         show(e.max.value),
         e.max.region.name().to_string(),
+    ]);
+}
+
+fn summary_row<T: Quantity + std::fmt::Display>(
+    g: &mut Grid,
+    name: &str,
+    x: &Summary<T>,
+    target: f64,
+) {
+    g.row([
+        name.to_string(),
+        x.mean.to_string(),
+        x.sd.to_string(),
+        share(x.sd.si() / target),
+        x.min.to_string(),
+        x.max.to_string(),
     ]);
 }
 
@@ -128,14 +144,17 @@ fn worst_lines(s: &SpreadStage) -> String {
         trim_number(b_max, 3),
         words(&temps)
     );
-    let amps = |x: f64| engineering(x, "A");
-    let volts = |x: f64| engineering(x, "V");
-    let watts = |x: f64| engineering(x, "W");
     let mut g = Grid::new(1);
     g.row(["", "target", "lowest", "", "highest", ""]);
-    extremes_row(&mut g, "IC", amps(t.ic), &w.ic, &amps);
-    extremes_row(&mut g, "VCE", volts(t.vce), &w.vce, &volts);
-    extremes_row(&mut g, "VE", volts(t.ve), &w.ve, &volts);
+    extremes_row(&mut g, "IC", Amps(t.ic).to_string(), &w.ic, &|x| {
+        x.to_string()
+    });
+    extremes_row(&mut g, "VCE", Volts(t.vce).to_string(), &w.vce, &|x| {
+        x.to_string()
+    });
+    extremes_row(&mut g, "VE", Volts(t.ve).to_string(), &w.ve, &|x| {
+        x.to_string()
+    });
     if let Some(e) = &w.stiffness {
         let limit = w
             .stiffness_limit
@@ -155,13 +174,13 @@ fn worst_lines(s: &SpreadStage) -> String {
         .unwrap_or_default();
     let limit = w
         .power_limit
-        .map_or(String::new(), |p| format!("≤ {}{hottest}", watts(p.0)));
+        .map_or(String::new(), |p| format!("≤ {p}{hottest}"));
     extremes_row(
         &mut g,
         "transistor power",
         limit,
         &w.transistor_power,
-        &watts,
+        &|x| x.to_string(),
     );
     extremes_row(
         &mut g,
@@ -171,17 +190,12 @@ fn worst_lines(s: &SpreadStage) -> String {
         &share,
     );
     out.push_str(&g.render("    "));
-    for (name, e) in [("IC", &w.ic), ("VCE", &w.vce)] {
-        let _ = writeln!(
-            out,
-            "  {name} is lowest with {}",
-            corner_text(&e.min.corner)
-        );
-        let _ = writeln!(
-            out,
-            "  {name} is highest with {}",
-            corner_text(&e.max.corner)
-        );
+    for (name, lo, hi) in [
+        ("IC", &w.ic.min.corner, &w.ic.max.corner),
+        ("VCE", &w.vce.min.corner, &w.vce.max.corner),
+    ] {
+        let _ = writeln!(out, "  {name} is lowest with {}", corner_text(lo));
+        let _ = writeln!(out, "  {name} is highest with {}", corner_text(hi));
     }
     out
 }
@@ -212,16 +226,8 @@ fn monte_carlo_lines(s: &SpreadStage) -> String {
     }
     let mut g = Grid::new(1);
     g.row(["", "mean", "sd", "sd of target", "lowest", "highest"]);
-    for (name, x, target, unit) in [("IC", &mc.ic, t.ic, "A"), ("VCE", &mc.vce, t.vce, "V")] {
-        g.row([
-            name.to_string(),
-            engineering(x.mean, unit),
-            engineering(x.sd, unit),
-            share(x.sd / target),
-            engineering(x.min, unit),
-            engineering(x.max, unit),
-        ]);
-    }
+    summary_row(&mut g, "IC", &mc.ic, t.ic);
+    summary_row(&mut g, "VCE", &mc.vce, t.vce);
     out.push_str(&g.render("    "));
     for (h, axis) in [
         (

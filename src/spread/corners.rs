@@ -10,9 +10,10 @@
 //! two ends, and against Monte Carlo builds. Corners are realised physically, each member at its own end,
 //! so the dissipation of every member is that of a part that could really be fitted.
 
+use super::Quantity;
 use crate::network::Network;
 use crate::stage::{Region, Slot, SlotNetworks, SlotValues, Stage, Topology};
-use crate::units::{Amps, Celsius, Ohms, Watts};
+use crate::units::{Amps, Celsius, Ohms, Volts, Watts};
 
 /// One corner: which end of its band each slot is at, the beta and the temperature.
 #[derive(Clone, Debug, PartialEq)]
@@ -27,9 +28,9 @@ pub struct Corner {
 
 /// A value at an extreme, where the transistor was there, and the corner that gave it.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Extreme {
-    /// The value, in SI base units (or a ratio).
-    pub value: f64,
+pub struct Extreme<T> {
+    /// The value.
+    pub value: T,
     /// The region at that corner.
     pub region: Region,
     /// The corner.
@@ -38,23 +39,24 @@ pub struct Extreme {
 
 /// The lowest and highest value of a quantity over the corners.
 #[derive(Clone, Debug, PartialEq)]
-pub struct Extremes {
+pub struct Extremes<T> {
     /// The lowest.
-    pub min: Extreme,
+    pub min: Extreme<T>,
     /// The highest.
-    pub max: Extreme,
+    pub max: Extreme<T>,
 }
 
-impl Extremes {
-    /// (min, max) as plain numbers.
-    pub fn pair(&self) -> (f64, f64) {
+impl<T: Quantity> Extremes<T> {
+    /// (min, max).
+    pub fn pair(&self) -> (T, T) {
         (self.min.value, self.max.value)
     }
 
     /// Whether `x` lies within [min, max], allowing `rel` relative rounding.
-    pub fn brackets(&self, x: f64, rel: f64) -> bool {
-        let slack = rel * self.min.value.abs().max(self.max.value.abs());
-        x >= self.min.value - slack && x <= self.max.value + slack
+    pub fn brackets(&self, x: T, rel: f64) -> bool {
+        let (lo, hi, x) = (self.min.value.si(), self.max.value.si(), x.si());
+        let slack = rel * lo.abs().max(hi.abs());
+        x >= lo - slack && x <= hi + slack
     }
 }
 
@@ -66,17 +68,17 @@ pub struct Worst {
     /// The temperatures the corners were solved at, lowest first.
     pub temperatures: Vec<Celsius>,
     /// Collector current.
-    pub ic: Extremes,
+    pub ic: Extremes<Amps>,
     /// Collector-emitter voltage.
-    pub vce: Extremes,
+    pub vce: Extremes<Volts>,
     /// Emitter voltage.
-    pub ve: Extremes,
+    pub ve: Extremes<Volts>,
     /// The divider's stiffness, bias current over IB (topologies with a stiffness rule).
-    pub stiffness: Option<Extremes>,
-    /// The transistor's dissipation VCE·IC + VBE·IB, watts.
-    pub transistor_power: Extremes,
+    pub stiffness: Option<Extremes<f64>>,
+    /// The transistor's dissipation VCE·IC + VBE·IB.
+    pub transistor_power: Extremes<Watts>,
     /// The hottest resistor's dissipation over its derated rating (1 means at the limit).
-    pub resistor_load: Extremes,
+    pub resistor_load: Extremes<f64>,
     /// The stiffness the rule asks for, when it applies.
     pub stiffness_limit: Option<f64>,
     /// The transistor's allowed dissipation at the hottest temperature solved, if its rating is known.
@@ -194,8 +196,9 @@ pub(crate) fn stiffness(
     }
 }
 
+/// The running extremes of one quantity, in SI base units, with the region and corner of each.
 struct Tracker {
-    best: Option<Extremes>,
+    best: Option<(Extreme<f64>, Extreme<f64>)>,
 }
 
 impl Tracker {
@@ -207,40 +210,33 @@ impl Tracker {
         if value.is_nan() {
             return;
         }
+        let here = || Extreme {
+            value,
+            region,
+            corner: corner(),
+        };
         match &mut self.best {
-            None => {
-                let e = Extreme {
-                    value,
-                    region,
-                    corner: corner(),
-                };
-                self.best = Some(Extremes {
-                    min: e.clone(),
-                    max: e,
-                });
-            }
-            Some(b) => {
-                if value < b.min.value {
-                    b.min = Extreme {
-                        value,
-                        region,
-                        corner: corner(),
-                    };
+            None => self.best = Some((here(), here())),
+            Some((lo, hi)) => {
+                if value < lo.value {
+                    *lo = here();
                 }
-                if value > b.max.value {
-                    b.max = Extreme {
-                        value,
-                        region,
-                        corner: corner(),
-                    };
+                if value > hi.value {
+                    *hi = here();
                 }
             }
         }
     }
 
-    fn done(self) -> Extremes {
-        self.best.unwrap_or(Extremes {
-            min: Extreme {
+    /// The extremes in the quantity's own type (NaN, at no corner, when every value was NaN).
+    fn done<T: Quantity>(self) -> Extremes<T> {
+        let unit = |e: Extreme<f64>| Extreme {
+            value: T::from_si(e.value),
+            region: e.region,
+            corner: e.corner,
+        };
+        let (lo, hi) = self.best.unwrap_or_else(|| {
+            let none = Extreme {
                 value: f64::NAN,
                 region: Region::Cutoff,
                 corner: Corner {
@@ -248,17 +244,13 @@ impl Tracker {
                     beta: f64::NAN,
                     temperature: Celsius(f64::NAN),
                 },
-            },
-            max: Extreme {
-                value: f64::NAN,
-                region: Region::Cutoff,
-                corner: Corner {
-                    high: Vec::new(),
-                    beta: f64::NAN,
-                    temperature: Celsius(f64::NAN),
-                },
-            },
-        })
+            };
+            (none.clone(), none)
+        });
+        Extremes {
+            min: unit(lo),
+            max: unit(hi),
+        }
     }
 }
 

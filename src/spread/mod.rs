@@ -22,9 +22,40 @@ pub use monte_carlo::{monte_carlo, Dist, MonteCarlo, Summary};
 pub use sensitivity::{sensitivities, Sensitivities, Sensitivity, Source};
 
 use crate::stage::{OperatingPoint, Slot, SlotNetworks, Stage, Targets};
-use crate::units::Celsius;
+use crate::units::{Amps, Celsius, Volts, Watts};
 use serde::ser::{SerializeMap, SerializeSeq};
 use serde::{Serialize, Serializer};
+
+/// A quantity the spread reports on: a unit type, or a plain ratio as `f64`, with its value in SI base units.
+pub trait Quantity: Copy + std::fmt::Debug + PartialEq + Serialize {
+    /// The value in SI base units.
+    fn si(self) -> f64;
+    /// The quantity from a value in SI base units.
+    fn from_si(x: f64) -> Self;
+}
+
+impl Quantity for f64 {
+    fn si(self) -> f64 {
+        self
+    }
+    fn from_si(x: f64) -> f64 {
+        x
+    }
+}
+
+macro_rules! unit_quantity {
+    ($($t:ident),*) => {$(
+        impl Quantity for $t {
+            fn si(self) -> f64 {
+                self.0
+            }
+            fn from_si(x: f64) -> $t {
+                $t(x)
+            }
+        }
+    )*};
+}
+unit_quantity!(Amps, Volts, Watts);
 
 /// How to run the spread.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -135,23 +166,19 @@ pub fn analyse(
     })
 }
 
-impl Serialize for Extremes {
-    /// As `[min, max]`.
+impl<T: Quantity> Serialize for Extremes<T> {
+    /// As `[min, max]` in SI base units.
     fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
         let mut seq = s.serialize_seq(Some(2))?;
-        seq.serialize_element(&self.min.value)?;
-        seq.serialize_element(&self.max.value)?;
+        seq.serialize_element(&self.min.value.si())?;
+        seq.serialize_element(&self.max.value.si())?;
         seq.end()
     }
 }
 
 /// The regions at (min, max) of a quantity.
-struct Regions<'a>(&'a Extremes);
-
-impl Serialize for Regions<'_> {
-    fn serialize<S: Serializer>(&self, s: S) -> Result<S::Ok, S::Error> {
-        [self.0.min.region.name(), self.0.max.region.name()].serialize(s)
-    }
+fn regions_of<T>(e: &Extremes<T>) -> serde_json::Value {
+    serde_json::json!([e.min.region.name(), e.max.region.name()])
 }
 
 impl Serialize for Worst {
@@ -163,14 +190,14 @@ impl Serialize for Worst {
         m.serialize_entry("stiffness", &self.stiffness)?;
         m.serialize_entry("transistor_power", &self.transistor_power)?;
         m.serialize_entry("resistor_load", &self.resistor_load)?;
-        let mut regions = serde_json::Map::new();
-        for (k, e) in [("ic", &self.ic), ("vce", &self.vce), ("ve", &self.ve)] {
-            regions.insert(
-                k.into(),
-                serde_json::to_value(Regions(e)).unwrap_or_default(),
-            );
-        }
-        m.serialize_entry("regions", &regions)?;
+        m.serialize_entry(
+            "regions",
+            &serde_json::json!({
+                "ic": regions_of(&self.ic),
+                "vce": regions_of(&self.vce),
+                "ve": regions_of(&self.ve),
+            }),
+        )?;
         m.serialize_entry("stiffness_limit", &self.stiffness_limit)?;
         m.serialize_entry("power_limit", &self.power_limit)?;
         m.serialize_entry("corners", &self.corners)?;

@@ -7,8 +7,9 @@
 
 use super::histogram::Histogram;
 use super::rng::Rng;
+use super::Quantity;
 use crate::stage::{Region, SlotNetworks, SlotValues, Stage};
-use crate::units::{Celsius, Ohms};
+use crate::units::{Amps, Celsius, Ohms, Volts};
 use serde::Serialize;
 use std::cell::RefCell;
 
@@ -42,37 +43,37 @@ impl Dist {
     }
 }
 
-/// Mean, standard deviation and range of a sample.
+/// Mean, standard deviation and range of a sample of a quantity.
 #[derive(Clone, Copy, Debug, PartialEq, Serialize)]
-pub struct Summary {
+pub struct Summary<T> {
     /// The mean.
-    pub mean: f64,
+    pub mean: T,
     /// The sample standard deviation (n − 1).
-    pub sd: f64,
+    pub sd: T,
     /// The smallest value.
-    pub min: f64,
+    pub min: T,
     /// The largest value.
-    pub max: f64,
+    pub max: T,
 }
 
-impl Summary {
-    /// The summary of a sample (NaN for an empty one).
-    pub fn of(xs: &[f64]) -> Summary {
+impl<T: Quantity> Summary<T> {
+    /// The summary of a sample given in SI base units (NaN for an empty one).
+    pub fn of(xs: &[f64]) -> Summary<T> {
         let n = xs.len() as f64;
         let mean = xs.iter().sum::<f64>() / n;
         // Two passes: the deviations are small against the mean, and one pass would lose them to rounding.
         let var = xs.iter().map(|x| (x - mean) * (x - mean)).sum::<f64>() / (n - 1.0).max(1.0);
         Summary {
-            mean,
-            sd: var.sqrt(),
-            min: xs.iter().copied().fold(f64::INFINITY, f64::min),
-            max: xs.iter().copied().fold(f64::NEG_INFINITY, f64::max),
+            mean: T::from_si(mean),
+            sd: T::from_si(var.sqrt()),
+            min: T::from_si(xs.iter().copied().fold(f64::INFINITY, f64::min)),
+            max: T::from_si(xs.iter().copied().fold(f64::NEG_INFINITY, f64::max)),
         }
     }
 
     /// The standard error of the mean over `n` draws.
-    pub fn standard_error(&self, n: usize) -> f64 {
-        self.sd / (n as f64).sqrt()
+    pub fn standard_error(&self, n: usize) -> T {
+        T::from_si(self.sd.si() / (n as f64).sqrt())
     }
 }
 
@@ -95,15 +96,15 @@ pub struct MonteCarlo {
     pub yield_5: f64,
     /// Fraction of builds in the active region at all.
     pub active: f64,
-    /// Collector current, amperes.
-    pub ic: Summary,
-    /// Collector-emitter voltage, volts.
-    pub vce: Summary,
-    /// Emitter voltage, volts.
-    pub ve: Summary,
-    /// The builds' IC.
+    /// Collector current.
+    pub ic: Summary<Amps>,
+    /// Collector-emitter voltage.
+    pub vce: Summary<Volts>,
+    /// Emitter voltage.
+    pub ve: Summary<Volts>,
+    /// The builds' IC, amperes.
     pub ic_histogram: Histogram,
-    /// The builds' VCE.
+    /// The builds' VCE, volts.
     pub vce_histogram: Histogram,
 }
 
@@ -183,7 +184,7 @@ mod tests {
     #[test]
     fn summary_by_hand() {
         // 2, 4, 4, 4, 5, 5, 7, 9: mean 5, sum of squared deviations 32, sample variance 32/7.
-        let s = Summary::of(&[2.0, 4.0, 4.0, 4.0, 5.0, 5.0, 7.0, 9.0]);
+        let s: Summary<f64> = Summary::of(&[2.0, 4.0, 4.0, 4.0, 5.0, 5.0, 7.0, 9.0]);
         assert_eq!(s.mean, 5.0);
         assert!((s.sd - (32.0f64 / 7.0).sqrt()).abs() < 1e-12);
         assert_eq!((s.min, s.max), (2.0, 9.0));
