@@ -206,6 +206,39 @@ fn the_corners_bracket_every_build() {
 }
 
 #[test]
+fn the_corners_bracket_builds_that_saturate() {
+    // Fixed base bias with a 10:1 beta range: IC follows beta until the transistor saturates, so some
+    // builds and corners are saturated and the extremes must still hold every build.
+    for p in [Polarity::Npn, Polarity::Pnp] {
+        for diode in [false, true] {
+            let st = stage_of(&toml_for(
+                Topology::BaseResistor,
+                p,
+                diode,
+                "[60, 200, 600]",
+                "",
+            ));
+            let nets = networks(&st, 0.05);
+            let sp = analyse(&st, &nets, &opts(5_000, 3, Dist::Uniform)).unwrap();
+            let (w, mc) = (&sp.worst, &sp.monte_carlo);
+            assert_eq!(
+                w.vce.min.region,
+                crate::stage::Region::Saturation,
+                "{p} {diode}"
+            );
+            assert!(mc.active < 1.0, "some builds saturate");
+            for (lo, hi) in [
+                (holds(&w.ic, mc.ic.min.0), holds(&w.ic, mc.ic.max.0)),
+                (holds(&w.vce, mc.vce.min.0), holds(&w.vce, mc.vce.max.0)),
+                (holds(&w.ve, mc.ve.min.0), holds(&w.ve, mc.ve.max.0)),
+            ] {
+                assert!(lo && hi, "{p} {diode}: {:?} {:?}", si(&mc.ic), ends(&w.ic));
+            }
+        }
+    }
+}
+
+#[test]
 fn slot_band_corners_equal_every_member_corner() {
     // The worst case solves 2^slots corners; enumerating every member's two ends (2^members) must give the
     // same extremes, since a network's resistance rises with each member.
