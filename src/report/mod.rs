@@ -6,6 +6,9 @@
 //! never loses or renames one. Relies on [`crate::stage`] for the numbers and [`crate::network`] for parts.
 
 pub mod design;
+pub mod histogram;
+pub mod result;
+pub mod spread;
 pub mod table;
 
 use crate::network::Network;
