@@ -562,3 +562,565 @@ pub fn in_window(stock: &Stock, max_parts: usize, low: Ohms, high: Ohms) -> Vec<
 pub fn best(stock: &Stock, target: Ohms, max_parts: usize, k: usize) -> Vec<Candidate> {
     Index::new(stock, max_parts).best(target, k)
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::stock::Part;
+    use crate::units::{Tolerance, Watts};
+
+    /// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number generators", OOPSLA 2014):
+    /// a tiny, fixed-seed generator so the random stocks are the same on every run.
+    struct SplitMix64(u64);
+
+    impl SplitMix64 {
+        fn next(&mut self) -> u64 {
+            self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+            let mut z = self.0;
+            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+            z ^ (z >> 31)
+        }
+        /// Uniform in [0, 1).
+        fn unit(&mut self) -> f64 {
+            (self.next() >> 11) as f64 / (1u64 << 53) as f64
+        }
+        fn below(&mut self, n: usize) -> usize {
+            (self.next() % n as u64) as usize
+        }
+    }
+
+    fn part(ohms: f64, tol: f64, qty: u32, location: &str) -> Part {
+        Part {
+            ohms: Ohms(ohms),
+            tolerance: Tolerance(tol),
+            power: Watts(0.25),
+            qty,
+            locations: vec![location.to_string()],
+            notes: Vec::new(),
+            lines: Vec::new(),
+        }
+    }
+
+    /// A random stock: E12 values over five decades (so that sums and parallels coincide, as 1k + 1k = 2k
+    /// or 2k2 | 2k2 = 1k1 do) mixed with arbitrary values, quantities 0 to 3, and some values stocked twice
+    /// at different tolerances.
+    fn random_stock(rng: &mut SplitMix64, n: usize) -> Stock {
+        const E12: [f64; 12] = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2];
+        let tols = [0.01, 0.02, 0.05];
+        let mut parts: Vec<Part> = Vec::new();
+        for i in 0..n {
+            let ohms = if rng.unit() < 0.7 {
+                E12[rng.below(12)] * [10.0, 100.0, 1000.0, 10_000.0, 100_000.0][rng.below(5)]
+            } else {
+                10.0 * 10f64.powf(5.0 * rng.unit())
+            };
+            let ohms = if i > 0 && rng.unit() < 0.15 {
+                parts[rng.below(parts.len())].ohms.0
+            } else {
+                ohms
+            };
+            let qty = rng.below(4) as u32;
+            parts.push(part(ohms, tols[rng.below(3)], qty, &format!("bin {i}")));
+        }
+        Stock::from_parts("random", parts)
+    }
+
+    /// A network found by brute force, with everything the ranking rules look at.
+    struct Naive {
+        network: Network,
+        ohms: f64,
+        parts: usize,
+        tol_key: i64,
+        left: u32,
+        shape: u8,
+        ids: Vec<PartId>,
+    }
+
+    /// Every network of up to `max_parts` parts, by brute force: each shape over every choice of parts, the
+    /// members written in the documented order, and the quantities checked afterwards.
+    fn naive_all(stock: &Stock, max_parts: usize) -> Vec<Naive> {
+        let mut usable: Vec<PartId> = (0..stock.parts.len())
+            .filter(|&i| stock.parts[i].qty > 0)
+            .collect();
+        usable.sort_by(|&a, &b| {
+            (stock.parts[a].ohms.0, a)
+                .partial_cmp(&(stock.parts[b].ohms.0, b))
+                .unwrap()
+        });
+        let leaf = |id: PartId| {
+            let p = &stock.parts[id];
+            Network::Single(Member {
+                ohms: p.ohms,
+                tolerance: p.tolerance,
+                power: p.power,
+                location: p.location(),
+                part: Some(id),
+            })
+        };
+        let mut out = Vec::new();
+        let mut push = |shape: u8, network: Network| {
+            let ids: Vec<PartId> = network.members().iter().map(|m| m.part.unwrap()).collect();
+            let used = |id: PartId| ids.iter().filter(|&&x| x == id).count() as u32;
+            if ids.iter().any(|&id| used(id) > stock.parts[id].qty) {
+                return;
+            }
+            let (lo, hi) = network.band();
+            out.push(Naive {
+                ohms: network.ohms().0,
+                parts: ids.len(),
+                tol_key: ((-lo).max(hi) * 1e9).round() as i64,
+                left: ids
+                    .iter()
+                    .map(|&id| stock.parts[id].qty - used(id))
+                    .min()
+                    .unwrap(),
+                shape,
+                ids,
+                network,
+            });
+        };
+        let u = &usable;
+        let n = u.len();
+        for &a in u {
+            push(0, leaf(a));
+        }
+        if max_parts >= 2 {
+            for a in 0..n {
+                for b in a..n {
+                    push(1, Network::Series(vec![leaf(u[b]), leaf(u[a])]));
+                    push(2, Network::Parallel(vec![leaf(u[a]), leaf(u[b])]));
+                }
+            }
+        }
+        if max_parts >= 3 {
+            for a in 0..n {
+                for b in a..n {
+                    for c in b..n {
+                        push(3, Network::Series(vec![leaf(u[c]), leaf(u[b]), leaf(u[a])]));
+                        push(
+                            4,
+                            Network::Parallel(vec![leaf(u[a]), leaf(u[b]), leaf(u[c])]),
+                        );
+                    }
+                }
+            }
+            for x in 0..n {
+                for b in 0..n {
+                    for c in b..n {
+                        push(
+                            5,
+                            Network::Series(vec![
+                                leaf(u[x]),
+                                Network::Parallel(vec![leaf(u[b]), leaf(u[c])]),
+                            ]),
+                        );
+                        push(
+                            6,
+                            Network::Parallel(vec![
+                                leaf(u[x]),
+                                Network::Series(vec![leaf(u[c]), leaf(u[b])]),
+                            ]),
+                        );
+                    }
+                }
+            }
+        }
+        out
+    }
+
+    fn naive_prefer(a: &Naive, b: &Naive) -> Ordering {
+        (a.parts, a.tol_key, Reverse(a.left), a.shape, &a.ids).cmp(&(
+            b.parts,
+            b.tol_key,
+            Reverse(b.left),
+            b.shape,
+            &b.ids,
+        ))
+    }
+
+    /// The deduplication rule as the module documents it, applied to a plain list.
+    fn naive_dedupe(mut all: Vec<Naive>) -> Vec<Naive> {
+        all.sort_by(|a, b| a.ohms.partial_cmp(&b.ohms).unwrap());
+        let mut runs: Vec<Vec<Naive>> = Vec::new();
+        let mut prev: Option<f64> = None;
+        for c in all {
+            let joins = prev.is_some_and(|p| c.ohms - p <= 1e-6 * p);
+            prev = Some(c.ohms);
+            if joins {
+                runs.last_mut().unwrap().push(c);
+            } else {
+                runs.push(vec![c]);
+            }
+        }
+        runs.into_iter()
+            .map(|mut run| {
+                run.sort_by(naive_prefer);
+                run.swap_remove(0)
+            })
+            .collect()
+    }
+
+    fn naive_window(stock: &Stock, max_parts: usize, low: f64, high: f64) -> Vec<Naive> {
+        let all = naive_all(stock, max_parts)
+            .into_iter()
+            .filter(|c| c.ohms >= low && c.ohms <= high)
+            .collect();
+        naive_dedupe(all)
+    }
+
+    fn naive_best(stock: &Stock, target: f64, max_parts: usize, k: usize) -> Vec<Naive> {
+        let mut all = naive_dedupe(naive_all(stock, max_parts));
+        let err = |c: &Naive| ((c.ohms - target) / target).abs();
+        all.sort_by(|a, b| {
+            err(a)
+                .partial_cmp(&err(b))
+                .unwrap()
+                .then_with(|| naive_prefer(a, b))
+        });
+        all.truncate(k);
+        all
+    }
+
+    fn assert_same(fast: &[Candidate], naive: &[Naive], what: &str) {
+        let show = |v: &[Candidate]| v.iter().map(|c| c.network.notation()).collect::<Vec<_>>();
+        let show_naive = |v: &[Naive]| v.iter().map(|c| c.network.notation()).collect::<Vec<_>>();
+        assert_eq!(
+            fast.len(),
+            naive.len(),
+            "{what}: {:?} vs {:?}",
+            show(fast),
+            show_naive(naive)
+        );
+        for (f, n) in fast.iter().zip(naive) {
+            assert_eq!(f.network, n.network, "{what}");
+            assert_eq!(f.ohms.0.to_bits(), n.ohms.to_bits(), "{what}");
+            assert_eq!(f.parts, n.parts, "{what}");
+            assert_eq!(f.left, n.left, "{what}");
+        }
+    }
+
+    #[test]
+    fn windows_equal_exhaustive_enumeration_on_random_stocks() {
+        let mut rng = SplitMix64(0x5EED_0001);
+        for round in 0..40 {
+            let n = 6 + rng.below(9);
+            let stock = random_stock(&mut rng, n);
+            let max_parts = 1 + round % 3;
+            let index = Index::new(&stock, max_parts);
+            let all = naive_all(&stock, max_parts);
+            let pairs: Vec<f64> = all
+                .iter()
+                .filter(|c| c.shape == 2)
+                .map(|c| c.ohms)
+                .collect();
+            for w in 0..16 {
+                let (low, high) = if w >= 12 && !pairs.is_empty() {
+                    // Just below a parallel pair's value, where a third part far larger than the two only
+                    // nudges the value down: the pruning bounds are tightest here.
+                    let a = pairs[rng.below(pairs.len())];
+                    (a * (1.0 - 10f64.powf(-6.0 + 4.3 * rng.unit())), a)
+                } else if w < 8 {
+                    // A random window, from a hair wide to a factor of 3.
+                    let centre = 3.0 * 10f64.powf(6.5 * rng.unit());
+                    let ratio = 1.0 + 2.0 * rng.unit().powi(3);
+                    (centre / ratio.sqrt(), centre * ratio.sqrt())
+                } else if w < 11 && !all.is_empty() {
+                    // Edges exactly on network values: both ends are inclusive.
+                    let a = all[rng.below(all.len())].ohms;
+                    let b = all[rng.below(all.len())].ohms;
+                    (a.min(b), a.max(b))
+                } else {
+                    (0.0, 1e12)
+                };
+                let fast = index.in_window(Ohms(low), Ohms(high));
+                let naive = naive_window(&stock, max_parts, low, high);
+                assert_same(
+                    &fast,
+                    &naive,
+                    &format!("round {round} window {low}..{high}"),
+                );
+                assert!(fast.windows(2).all(|p| p[0].ohms.0 < p[1].ohms.0));
+            }
+        }
+    }
+
+    #[test]
+    fn best_equals_exhaustive_ranking_on_random_stocks() {
+        let mut rng = SplitMix64(0x5EED_0002);
+        for round in 0..40 {
+            let n = 5 + rng.below(10);
+            let stock = random_stock(&mut rng, n);
+            let max_parts = 1 + round % 3;
+            let index = Index::new(&stock, max_parts);
+            for _ in 0..6 {
+                let target = 2.0 * 10f64.powf(6.5 * rng.unit());
+                let k = 1 + rng.below(8);
+                let fast = index.best(Ohms(target), k);
+                let naive = naive_best(&stock, target, max_parts, k);
+                assert_same(
+                    &fast,
+                    &naive,
+                    &format!("round {round} target {target} k {k}"),
+                );
+                assert_eq!(best(&stock, Ohms(target), max_parts, k), fast);
+            }
+        }
+    }
+
+    #[test]
+    fn candidates_are_exactly_their_networks() {
+        // The search computes values and bands itself; they must be the network's own, bit for bit.
+        let mut rng = SplitMix64(0x5EED_0003);
+        let stock = random_stock(&mut rng, 14);
+        for c in in_window(&stock, 3, Ohms(0.0), Ohms(1e12)) {
+            assert_eq!(c.network.ohms().0.to_bits(), c.ohms.0.to_bits());
+            assert_eq!(c.network.band(), c.band);
+            assert_eq!(c.network.part_count(), c.parts);
+            let mut ids: Vec<PartId> = c
+                .network
+                .members()
+                .iter()
+                .map(|m| m.part.unwrap())
+                .collect();
+            ids.sort_unstable();
+            let counted: u32 = c.uses.iter().map(|u| u.1).sum();
+            assert_eq!(counted as usize, c.parts);
+            assert!(c.uses.windows(2).all(|w| w[0].0 < w[1].0));
+            for (id, n) in &c.uses {
+                assert_eq!(ids.iter().filter(|x| *x == id).count() as u32, *n);
+                assert!(*n <= stock.parts[*id].qty);
+            }
+            for m in c.network.members() {
+                let p = &stock.parts[m.part.unwrap()];
+                assert_eq!(m.location, p.location());
+                assert_eq!(
+                    (m.ohms, m.tolerance, m.power),
+                    (p.ohms, p.tolerance, p.power)
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn counts_every_network_once() {
+        // With n values in generic position (no two networks coincide) and three of each, the search finds
+        // n singles, 2·C(n+1, 2) pairs and 2·C(n+2, 3) + 2·n·C(n+1, 2) triples (combinations with
+        // repetition: C(n+1, 2) unordered pairs, C(n+2, 3) unordered triples).
+        // These nine values have no two networks within 5 ppm of each other (checked when the test was
+        // written), so deduplication at 1 ppm removes nothing.
+        let n = 9usize;
+        let parts = (0..n)
+            .map(|i| {
+                let ohms = 100.0 * 1.7f64.powi(i as i32) * (1.0 + ((i + 2) as f64).sqrt() / 100.0);
+                part(ohms, 0.05, 3, "x")
+            })
+            .collect();
+        let stock = Stock::from_parts("generic", parts);
+        let c2 = n * (n + 1) / 2;
+        let c3 = n * (n + 1) * (n + 2) / 6;
+        let count = |p| in_window(&stock, p, Ohms(0.0), Ohms(1e9)).len();
+        assert_eq!(count(1), n);
+        assert_eq!(count(2), n + 2 * c2);
+        assert_eq!(count(3), n + 2 * c2 + 2 * c3 + 2 * n * c2);
+    }
+
+    #[test]
+    fn series_parallel_and_mixed_by_hand() {
+        let stock = Stock::from_parts(
+            "hand",
+            vec![
+                part(10e3, 0.05, 5, "D9"),
+                part(4700.0, 0.01, 5, "C8"),
+                part(2200.0, 0.05, 5, "C2"),
+                part(1000.0, 0.05, 5, "C7"),
+            ],
+        );
+        let at = |parts, ohms: f64| {
+            in_window(
+                &stock,
+                parts,
+                Ohms(ohms * (1.0 - 1e-9)),
+                Ohms(ohms * (1.0 + 1e-9)),
+            )
+            .into_iter()
+            .map(|c| c.network.notation())
+            .collect::<Vec<_>>()
+        };
+        // 10k + 4k7 = 14k7; 4k7 | 4k7 = 2350 Ω; 10k | 2k2 = 22e6 / 12.2e3 = 1803.28 Ω.
+        assert_eq!(at(2, 14_700.0), ["10k+4k7"]);
+        assert_eq!(at(2, 2350.0), ["4k7|4k7"]);
+        assert_eq!(at(2, 22e6 / 12_200.0), ["2k2|10k"]);
+        // 1k + (2k2 | 2k2) = 2100 Ω; 1k | (10k + 4k7) = 14.7e6 / 15.7e3 = 936.31 Ω; 1k+1k+1k = 3k;
+        // 1k | 1k | 1k = 333.33 Ω.
+        assert_eq!(at(3, 2100.0), ["1k+(2k2|2k2)"]);
+        assert_eq!(at(3, 14.7e6 / 15_700.0), ["1k|(10k+4k7)"]);
+        assert_eq!(at(3, 3000.0), ["1k+1k+1k"]);
+        assert_eq!(at(3, 1000.0 / 3.0), ["1k|1k|1k"]);
+        // 2k2 + 1k + 1k = 4k2, and 2k2 | 2k2 = 1k1 from a pair: the window is exact.
+        assert_eq!(at(3, 4200.0), ["2k2+1k+1k"]);
+    }
+
+    #[test]
+    fn band_of_a_network_by_hand() {
+        let stock = Stock::from_parts(
+            "band",
+            vec![
+                part(10e3, 0.01, 1, "a"),
+                part(4700.0, 0.05, 1, "b"),
+                part(1000.0, 0.01, 1, "c"),
+                part(1000.0, 0.05, 1, "d"),
+            ],
+        );
+        let only = |parts, ohms: f64| {
+            let found = in_window(
+                &stock,
+                parts,
+                Ohms(ohms * (1.0 - 1e-9)),
+                Ohms(ohms * (1.0 + 1e-9)),
+            );
+            assert_eq!(found.len(), 1, "{ohms}");
+            found.into_iter().next().unwrap()
+        };
+        // 10k 1 % + 4k7 5 %: low 9900 + 4465 = 14365, high 10100 + 4935 = 15035, nominal 14700:
+        // -2.279 % / +2.279 %.
+        let c = only(2, 14_700.0);
+        assert!((c.band.0 - (14_365.0 / 14_700.0 - 1.0)).abs() < 1e-12);
+        assert!((c.band.1 - (15_035.0 / 14_700.0 - 1.0)).abs() < 1e-12);
+        // 1k 1 % | 1k 5 %: low 990 | 950 = 940500 / 1940 = 484.794, high 1010 | 1050 = 1060500 / 2060 =
+        // 514.806, nominal 500: -3.041 % / +2.961 %.
+        let c = only(2, 500.0);
+        assert!((c.band.0 - (940_500.0 / 1940.0 / 500.0 - 1.0)).abs() < 1e-12);
+        assert!((c.band.1 - (1_060_500.0 / 2060.0 / 500.0 - 1.0)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn quantities_are_honoured() {
+        let stock = |qty| Stock::from_parts("qty", vec![part(1000.0, 0.05, qty, "C7")]);
+        let values = |s: &Stock| {
+            in_window(s, 3, Ohms(0.0), Ohms(1e9))
+                .into_iter()
+                .map(|c| c.ohms.0)
+                .collect::<Vec<_>>()
+        };
+        // One piece: just the 1k. Two: also 1k + 1k and 1k | 1k. Three: also the triples, 3k, 333.3 Ω,
+        // 1k + (1k | 1k) = 1k5 and 1k | (1k + 1k) = 666.7 Ω.
+        assert_eq!(values(&stock(0)), Vec::<f64>::new());
+        assert_eq!(values(&stock(1)), [1000.0]);
+        assert_eq!(values(&stock(2)), [500.0, 1000.0, 2000.0]);
+        let three = values(&stock(3));
+        assert_eq!(three.len(), 7);
+        for want in [
+            1000.0 / 3.0,
+            500.0,
+            2000.0 / 3.0,
+            1000.0,
+            1500.0,
+            2000.0,
+            3000.0,
+        ] {
+            assert!(three.iter().any(|v| (v - want).abs() < 1e-9), "{want}");
+        }
+        // best() never draws on an empty bin: 2k2 | 2k2 = 1k1 exactly, but 2k2 has none left.
+        let s = Stock::from_parts(
+            "empty bin",
+            vec![part(2200.0, 0.05, 0, "C2"), part(1000.0, 0.05, 1, "C7")],
+        );
+        let b = best(&s, Ohms(1100.0), 3, 5);
+        assert_eq!(b.len(), 1);
+        assert_eq!(b[0].network.notation(), "1k");
+        // Two pieces of one part, not two parts: a pair needs qty ≥ 2 of the same part.
+        let s = Stock::from_parts(
+            "one each",
+            vec![part(2200.0, 0.05, 1, "C2"), part(2200.0, 0.01, 1, "C3")],
+        );
+        let b = best(&s, Ohms(1100.0), 2, 1);
+        assert_eq!(b[0].uses, vec![(0, 1), (1, 1)]);
+        assert_eq!(b[0].left, 0);
+    }
+
+    #[test]
+    fn duplicates_keep_fewer_parts_then_tighter_band_then_more_stock() {
+        // 1k + 1k = 2k exactly: the single 2k wins on parts.
+        let s = Stock::from_parts(
+            "dups",
+            vec![part(1000.0, 0.01, 4, "C7"), part(2000.0, 0.05, 1, "C9")],
+        );
+        let w = in_window(&s, 2, Ohms(1999.0), Ohms(2001.0));
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].network.notation(), "2k");
+        // The same value at 5 % and 1 %: the 1 % part, though the 5 % bin is fuller.
+        let s = Stock::from_parts(
+            "dups",
+            vec![part(4700.0, 0.05, 9, "A"), part(4700.0, 0.01, 2, "C8")],
+        );
+        let w = in_window(&s, 1, Ohms(4000.0), Ohms(5000.0));
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].uses, vec![(1, 1)]);
+        // Equal tolerance: the fuller bin.
+        let s = Stock::from_parts(
+            "dups",
+            vec![part(4700.0, 0.05, 2, "A"), part(4700.0, 0.05, 9, "B")],
+        );
+        let w = in_window(&s, 1, Ohms(4000.0), Ohms(5000.0));
+        assert_eq!(w[0].uses, vec![(1, 1)]);
+        assert_eq!(w[0].left, 8);
+        // Within 1 ppm counts as the same value: 1 MΩ and 1 MΩ + 0.5 Ω are one; + 2 Ω are two.
+        let s = Stock::from_parts(
+            "ppm",
+            vec![
+                part(1e6, 0.05, 1, "A"),
+                part(1e6 + 0.5, 0.01, 1, "B"),
+                part(1e6 + 2.0, 0.01, 1, "C"),
+            ],
+        );
+        let w = in_window(&s, 1, Ohms(0.9e6), Ohms(1.1e6));
+        assert_eq!(w.len(), 2);
+        assert_eq!(w[0].uses, vec![(1, 1)]);
+    }
+
+    #[test]
+    fn best_deduplicates_across_its_search_window() {
+        // 500k + 500k = 1M exactly, 600k + 400k0008 sits 0.8 ppm above it and a single 1M0000015 0.7 ppm above
+        // that: one run of 1-ppm neighbours, whose single-part member is kept though it is the farthest from
+        // 1M. A search that deduplicated only inside its first window (±1 ppm) would offer 500k + 500k.
+        let s = Stock::from_parts(
+            "chain",
+            vec![
+                part(500e3, 0.05, 2, "A"),
+                part(600e3, 0.05, 1, "B"),
+                part(400_000.8, 0.05, 1, "C"),
+                part(1_000_001.5, 0.05, 1, "D"),
+            ],
+        );
+        let b = best(&s, Ohms(1e6), 2, 1);
+        assert_eq!(b[0].uses, vec![(3, 1)]);
+        assert_same(&b, &naive_best(&s, 1e6, 2, 1), "chain");
+    }
+
+    #[test]
+    fn best_ranks_by_error_then_parts() {
+        // Target 1k1 from 1k, 1k2 and 2k2 × 2: 2k2 | 2k2 is exact; 1k and 1k2 are -9.09 % and +9.09 %,
+        // a tie on |error| that fewer parts cannot break, so the tighter band (the 1 % 1k2) goes first.
+        let s = Stock::from_parts(
+            "rank",
+            vec![
+                part(1000.0, 0.05, 5, "C7"),
+                part(1200.0, 0.01, 5, "C8"),
+                part(2200.0, 0.05, 2, "C2"),
+            ],
+        );
+        let b = best(&s, Ohms(1100.0), 1, 2);
+        assert_eq!(
+            b.iter().map(|c| c.network.notation()).collect::<Vec<_>>(),
+            ["1k2", "1k"]
+        );
+        let b = best(&s, Ohms(1100.0), 2, 1);
+        assert_eq!(b[0].network.notation(), "2k2|2k2");
+        assert_eq!(b[0].error(Ohms(1100.0)), 0.0);
+        assert!(best(&s, Ohms(1100.0), 2, 0).is_empty());
+        assert!(best(&Stock::from_parts("none", vec![]), Ohms(1100.0), 2, 3).is_empty());
+        // Asking for more than there is returns everything, best first.
+        assert_eq!(best(&s, Ohms(1100.0), 1, 10).len(), 3);
+    }
+}
