@@ -4,15 +4,17 @@
 //! The shapes are a single part; two in series or in parallel; and, with three parts, three in series, three
 //! in parallel, `a+(b|c)` and `a|(b+c)`. A network that needs two pieces of one part needs a quantity of at
 //! least two, and parts with none left are never used. Each shape is searched over the stock's values sorted
-//! once: the last member (or the precomputed pair) is bounded by binary search, so a window costs O(N log N)
-//! for pairs and O(N² log N) for triples plus the size of its answer, and the candidates are then checked
-//! with the very arithmetic of [`Network::ohms`], so the bounds only ever prune, never decide.
+//! once: the first members are looped over only while they can still reach the window, and the last member's
+//! range is found by binary search, so a window costs O(N log N) for pairs and O(N² log N) for triples plus
+//! the size of its answer. Every candidate is then checked with the very arithmetic of [`Network::ohms`], so
+//! the bounds (widened by a slack far above their rounding error) only ever prune, never decide.
 //!
-//! Networks whose resistances agree within [`SAME_VALUE`] (1 ppm) are one value: sorted by resistance, a run
-//! of values each within 1 ppm of the one before keeps a single network, the one with fewer parts, then the
-//! tighter worst-case band, then more pieces left of its scarcest part, then the earlier shape (single,
-//! series pair, parallel pair, series triple, parallel triple, `a+(b|c)`, `a|(b+c)`), then the lower part
-//! ids in member order. Members are written dominant part first: series largest first, parallel smallest
+//! Networks whose resistances agree within [`SAME_VALUE`] (1 ppm of the smaller) are one value, and only one
+//! of them is offered. Networks are taken in order of preference: fewer parts, then the tighter worst-case
+//! band, then more pieces left of the scarcest part, then the earlier shape (single, series pair, parallel
+//! pair, series triple, parallel triple, `a+(b|c)`, `a|(b+c)`), then the lower part ids in member order; each
+//! is kept unless a network already kept lies within 1 ppm. No two kept networks are within 1 ppm, and every
+//! dropped network has a preferred one kept within 1 ppm, so no value is left unrepresented. Members are written dominant part first: series largest first, parallel smallest
 //! first, `a+(b|c)` and `a|(b+c)` with the lone part first.
 //!
 //! It relies on [`crate::stock::Stock`] for the parts and on [`Network`] for what a network is.
@@ -43,6 +45,11 @@ pub struct Candidate {
     pub band: (f64, f64),
     /// Pieces left of its scarcest part once it is built.
     pub left: u32,
+}
+
+/// Whether two values, `low` ≤ `high`, are the same value: within [`SAME_VALUE`] of the smaller.
+fn close(low: f64, high: f64) -> bool {
+    high - low <= SAME_VALUE * low
 }
 
 impl Candidate {
@@ -99,13 +106,6 @@ struct Entry {
     id: PartId,
 }
 
-/// A precomputed pair for the mixed triples: its value and its two entries in member order.
-#[derive(Clone, Copy, Debug)]
-struct Pair {
-    ohms: f64,
-    m: [u32; 2],
-}
-
 /// A network found in a window, before it becomes a [`Candidate`]: entries (not part ids) in member order.
 #[derive(Clone, Copy, Debug)]
 struct Raw {
@@ -124,8 +124,7 @@ struct Kept {
     left: u32,
 }
 
-/// A stock prepared for repeated candidate searches: its usable parts sorted by value and, for three-part
-/// networks, every parallel and series pair sorted by value.
+/// A stock prepared for repeated candidate searches: its usable parts sorted by value, in O(N log N).
 ///
 /// Build it once per stock and part limit when searching many windows (the optimiser does);
 /// [`in_window`] and [`best`] build one per call.
@@ -135,8 +134,37 @@ pub struct Index<'a> {
     max_parts: usize,
     entries: Vec<Entry>,
     values: Vec<f64>,
-    parallel_pairs: Vec<Pair>,
-    series_pairs: Vec<Pair>,
+}
+
+/// The indices of sorted `values` within [lo, hi], for bounds that only fall from one call to the next.
+struct Falling<'v> {
+    values: &'v [f64],
+    /// The first index with a value ≥ the last lower bound.
+    lo: usize,
+    /// The first index with a value > the last upper bound.
+    hi: usize,
+}
+
+impl<'v> Falling<'v> {
+    fn new(values: &'v [f64]) -> Self {
+        Falling {
+            values,
+            lo: values.len(),
+            hi: values.len(),
+        }
+    }
+
+    /// A bound that rises by a rounding error instead of falling is harmless: the slack already puts the
+    /// true bound inside the previous one, and the exact check decides.
+    fn between(&mut self, lo: f64, hi: f64) -> std::ops::Range<usize> {
+        while self.hi > 0 && self.values[self.hi - 1] > hi {
+            self.hi -= 1;
+        }
+        while self.lo > 0 && self.values[self.lo - 1] >= lo {
+            self.lo -= 1;
+        }
+        self.lo..self.hi.max(self.lo)
+    }
 }
 
 /// Slack added to every pruning bound, far above the rounding error of the bound's few operations; the
@@ -161,40 +189,12 @@ impl<'a> Index<'a> {
             .collect();
         entries.sort_by(|a, b| a.ohms.total_cmp(&b.ohms).then(a.id.cmp(&b.id)));
         let values = entries.iter().map(|e| e.ohms).collect();
-        let mut index = Index {
+        Index {
             stock,
             max_parts,
             entries,
             values,
-            parallel_pairs: Vec::new(),
-            series_pairs: Vec::new(),
-        };
-        if max_parts == 3 {
-            let n = index.entries.len();
-            let mut par = Vec::with_capacity(n * (n + 1) / 2);
-            let mut ser = Vec::with_capacity(n * (n + 1) / 2);
-            for i in 0..n {
-                for j in i..n {
-                    if i == j && index.entries[i].qty < 2 {
-                        continue;
-                    }
-                    let (a, b) = (index.values[i], index.values[j]);
-                    par.push(Pair {
-                        ohms: Shape::Parallel2.eval([a, b, 0.0]),
-                        m: [i as u32, j as u32],
-                    });
-                    ser.push(Pair {
-                        ohms: Shape::Series2.eval([b, a, 0.0]),
-                        m: [j as u32, i as u32],
-                    });
-                }
-            }
-            par.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-            ser.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-            index.parallel_pairs = par;
-            index.series_pairs = ser;
         }
-        index
     }
 
     /// How many stock parts (with pieces on hand) the search draws on.
@@ -204,9 +204,7 @@ impl<'a> Index<'a> {
 
     /// Every distinct network with a resistance in [low, high], deduplicated, sorted by ohms ascending.
     pub fn in_window(&self, low: Ohms, high: Ohms) -> Vec<Candidate> {
-        let mut raws = Vec::new();
-        self.collect(low.0, high.0, &mut raws);
-        self.dedupe(raws)
+        self.kept_in(low.0, high.0)
             .into_iter()
             .map(|k| self.candidate(&k))
             .collect()
@@ -215,8 +213,12 @@ impl<'a> Index<'a> {
     /// The `k` best networks for `target`, ranked by |relative error|; ties go to fewer parts, then the
     /// tighter band, then more pieces left, then the shape order and part ids.
     ///
-    /// Networks are deduplicated over the whole stock, not just the ones shown: the search widens its window
-    /// until it holds `k` values and no run of 1-ppm neighbours crosses the window's edge.
+    /// The networks ranked are those of the window target × (1 ± ρ), deduplicated as in
+    /// [`Index::in_window`], for the first ρ of 1 ppm, 4 ppm, 16 ppm, … whose window keeps `k` of them (or
+    /// holds every network). Nothing outside a window can rank above what is inside it, and a network
+    /// dropped as a duplicate always has a preferred one kept within 1 ppm, so the first answer is the
+    /// closest network there is, or one within 1 ppm of it with fewer parts (or a tighter band, or more
+    /// stock left).
     pub fn best(&self, target: Ohms, k: usize) -> Vec<Candidate> {
         let t = target.0;
         if k == 0 || self.entries.is_empty() || !(t.is_finite() && t > 0.0) {
@@ -224,23 +226,12 @@ impl<'a> Index<'a> {
         }
         // No network exceeds max_parts times the largest value (all in series).
         let ceiling = self.values[self.values.len() - 1] * self.max_parts as f64 * (1.0 + 1e-9);
-        let mut d = t * 1e-6;
+        let mut rho = 1e-6;
         loop {
-            let (low, high) = (t - d, t + d);
+            let (low, high) = (t * (1.0 - rho), t * (1.0 + rho));
             let everything = low <= 0.0 && high >= ceiling;
-            let mut raws = Vec::new();
-            self.collect(low, high, &mut raws);
-            let lowest = raws.iter().map(|r| r.ohms).fold(f64::INFINITY, f64::min);
-            let highest = raws.iter().map(|r| r.ohms).fold(0.0, f64::max);
-            // A run of 1-ppm neighbours could continue past an edge only if a value sits within 1 ppm of it.
-            let edges_clear = (low <= 0.0 || lowest > low * (1.0 + SAME_VALUE))
-                && highest * (1.0 + SAME_VALUE) < high;
-            let kept = if everything || edges_clear {
-                self.dedupe(raws)
-            } else {
-                Vec::new()
-            };
-            if everything || (edges_clear && kept.len() >= k) {
+            let kept = self.kept_in(low, high);
+            if everything || kept.len() >= k {
                 let mut ranked: Vec<(f64, Kept)> = kept
                     .into_iter()
                     .map(|c| (((c.raw.ohms - t) / t).abs(), c))
@@ -252,7 +243,7 @@ impl<'a> Index<'a> {
                     .map(|(_, c)| self.candidate(&c))
                     .collect();
             }
-            d *= 4.0;
+            rho *= 4.0;
         }
     }
 
@@ -301,12 +292,6 @@ impl<'a> Index<'a> {
         self.value_range(from, lo * (1.0 - SLACK), hi * (1.0 + SLACK))
     }
 
-    fn pair_range(pairs: &[Pair], lo: f64, hi: f64) -> &[Pair] {
-        let start = pairs.partition_point(|p| p.ohms < lo);
-        let end = pairs.partition_point(|p| p.ohms <= hi).max(start);
-        &pairs[start..end]
-    }
-
     /// Every network (not yet deduplicated) with a value in [low, high].
     fn collect(&self, low: f64, high: f64, out: &mut Vec<Raw>) {
         let n = self.entries.len();
@@ -325,14 +310,19 @@ impl<'a> Index<'a> {
         if self.max_parts < 2 {
             return;
         }
+        // Pairs, a ≤ b: as a grows, b's bounds only fall, so two pointers walk down instead of a binary search
+        // per a (the pair search is the one that must take microseconds).
+        let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
             if a + a > high {
                 break;
             }
-            for j in self.value_range(i, low - a - slack, high - a + slack) {
+            let js = range.between(low - a - slack, high - a + slack);
+            for j in js.start.max(i)..js.end {
                 self.emit(Shape::Series2, [j as u32, i as u32, 0], low, high, out);
             }
         }
+        let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
             if Shape::Parallel2.eval([a, a, 0.0]) > high {
                 break;
@@ -340,7 +330,17 @@ impl<'a> Index<'a> {
             let delta = SLACK * (inv_high + 1.0 / a + if low > 0.0 { inv_low } else { 0.0 });
             let g_lo = inv_high - 1.0 / a - delta;
             let g_hi = inv_low - 1.0 / a + delta;
-            for j in self.conductance_range(i, g_lo, g_hi) {
+            if g_hi <= 0.0 {
+                continue;
+            }
+            let lo = 1.0 / g_hi * (1.0 - SLACK);
+            let hi = if g_lo > 0.0 {
+                1.0 / g_lo * (1.0 + SLACK)
+            } else {
+                f64::INFINITY
+            };
+            let js = range.between(lo, hi);
+            for j in js.start.max(i)..js.end {
                 self.emit(Shape::Parallel2, [i as u32, j as u32, 0], low, high, out);
             }
         }
@@ -372,7 +372,18 @@ impl<'a> Index<'a> {
             if Shape::Parallel3.eval([a, a, a]) > high {
                 break;
             }
-            for (j, &b) in v.iter().enumerate().skip(i) {
+            // a | b must reach low: 1/b ≤ 1/low − 1/a (widened by an absolute slack, as the difference
+            // cancels when a is close to low).
+            let first = if low > 0.0 {
+                let g = inv_low - 1.0 / a + SLACK * (inv_low + 1.0 / a);
+                if g <= 0.0 {
+                    continue;
+                }
+                v.partition_point(|&b| b < 1.0 / g).max(i)
+            } else {
+                i
+            };
+            for (j, &b) in v.iter().enumerate().skip(first) {
                 if Shape::Parallel3.eval([a, b, b]) > high {
                     break;
                 }
@@ -394,33 +405,72 @@ impl<'a> Index<'a> {
                 }
             }
         }
-        // a+(b|c): the pair's value lies in [low − a, high − a].
+        // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
             if a > high {
                 break;
             }
-            for p in Self::pair_range(&self.parallel_pairs, low - a - slack, high - a + slack) {
-                let m = [x as u32, p.m[0], p.m[1]];
-                self.emit(Shape::SeriesOfParallel, m, low, high, out);
+            let p_lo = low - a - slack;
+            let p_hi = high - a + slack;
+            let first = v.partition_point(|&b| b < p_lo * (1.0 - SLACK));
+            for (i, &b) in v.iter().enumerate().skip(first) {
+                if a + Shape::Parallel2.eval([b, b, 0.0]) > high {
+                    break;
+                }
+                let delta =
+                    SLACK * (1.0 / p_hi + 1.0 / b + if p_lo > 0.0 { 1.0 / p_lo } else { 0.0 });
+                let g_lo = 1.0 / p_hi - 1.0 / b - delta;
+                let g_hi = if p_lo > 0.0 {
+                    1.0 / p_lo - 1.0 / b + delta
+                } else {
+                    f64::INFINITY
+                };
+                for j in self.conductance_range(i, g_lo, g_hi) {
+                    self.emit(
+                        Shape::SeriesOfParallel,
+                        [x as u32, i as u32, j as u32],
+                        low,
+                        high,
+                        out,
+                    );
+                }
             }
         }
-        // a|(b+c): the pair's conductance lies in [1/high − 1/a, 1/low − 1/a].
+        // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {
+            if a < low * (1.0 - SLACK) {
+                continue;
+            }
             let delta = SLACK * (inv_high + 1.0 / a + if low > 0.0 { inv_low } else { 0.0 });
             let g_lo = inv_high - 1.0 / a - delta;
             let g_hi = inv_low - 1.0 / a + delta;
             if g_hi <= 0.0 {
                 continue;
             }
-            let lo = 1.0 / g_hi;
-            let hi = if g_lo > 0.0 {
-                1.0 / g_lo
+            let s_lo = 1.0 / g_hi * (1.0 - SLACK);
+            let s_hi = if g_lo > 0.0 {
+                1.0 / g_lo * (1.0 + SLACK)
             } else {
                 f64::INFINITY
             };
-            for p in Self::pair_range(&self.series_pairs, lo * (1.0 - SLACK), hi * (1.0 + SLACK)) {
-                let m = [x as u32, p.m[0], p.m[1]];
-                self.emit(Shape::ParallelOfSeries, m, low, high, out);
+            let first = v.partition_point(|&b| b < s_lo / 2.0 * (1.0 - SLACK));
+            for (j, &b) in v.iter().enumerate().skip(first) {
+                if b > s_hi {
+                    break;
+                }
+                let pad = SLACK * (s_lo + b);
+                for i in self.value_range(0, s_lo - b - pad, s_hi - b + pad) {
+                    if i > j {
+                        break;
+                    }
+                    self.emit(
+                        Shape::ParallelOfSeries,
+                        [x as u32, j as u32, i as u32],
+                        low,
+                        high,
+                        out,
+                    );
+                }
             }
         }
     }
@@ -477,23 +527,52 @@ impl<'a> Index<'a> {
             .then_with(|| ids(a).cmp(&ids(b)))
     }
 
-    /// Sorts by value and keeps one network per run of 1-ppm neighbours.
-    fn dedupe(&self, mut raws: Vec<Raw>) -> Vec<Kept> {
+    /// The networks with a value in [low, high], deduplicated, sorted by value.
+    ///
+    /// Deduplication is greedy in order of preference: a network is kept unless an already kept one lies
+    /// within 1 ppm. So no two kept networks are within 1 ppm of each other, and every dropped one has a
+    /// preferred network kept within 1 ppm of it. Networks only interact within a run of 1-ppm neighbours,
+    /// so each run is settled on its own.
+    fn kept_in(&self, low: f64, high: f64) -> Vec<Kept> {
+        let mut raws = Vec::new();
+        self.collect(low, high, &mut raws);
         raws.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-        let mut out: Vec<Kept> = Vec::new();
-        let mut prev = f64::NAN;
-        for raw in raws {
-            let k = self.keep(raw);
-            let joins = raw.ohms - prev <= SAME_VALUE * prev;
-            prev = raw.ohms;
-            match out.last_mut() {
-                Some(last) if joins => {
-                    if self.prefer(&k, last) == Ordering::Less {
-                        *last = k;
+        let all: Vec<Kept> = raws.into_iter().map(|r| self.keep(r)).collect();
+        let mut out = Vec::with_capacity(all.len());
+        let mut start = 0;
+        while start < all.len() {
+            let mut end = start + 1;
+            while end < all.len() && close(all[end - 1].raw.ohms, all[end].raw.ohms) {
+                end += 1;
+            }
+            let run = &all[start..end];
+            if run.len() == 1 {
+                out.push(run[0]);
+            } else {
+                let mut order: Vec<&Kept> = run.iter().collect();
+                order.sort_by(|a, b| self.prefer(a, b));
+                // Kept values by their bits: positive floats order like their bit patterns.
+                let mut kept = std::collections::BTreeMap::new();
+                for k in order {
+                    let x = k.raw.ohms;
+                    let bits = x.to_bits();
+                    let below = kept
+                        .range(..=bits)
+                        .next_back()
+                        .map(|(_, v): (_, &Kept)| v.raw.ohms);
+                    let above = kept
+                        .range(bits..)
+                        .next()
+                        .map(|(_, v): (_, &Kept)| v.raw.ohms);
+                    let taken =
+                        below.is_some_and(|b| close(b, x)) || above.is_some_and(|a| close(x, a));
+                    if !taken {
+                        kept.insert(bits, *k);
                     }
                 }
-                _ => out.push(k),
+                out.extend(kept.into_values());
             }
+            start = end;
         }
         out
     }
@@ -551,8 +630,8 @@ impl<'a> Index<'a> {
 }
 
 /// Every distinct network of at most `max_parts` (1..=3) stock parts whose resistance lies in [low, high],
-/// deduplicated (within 1 ppm keep fewer parts, then the tighter band, then more stock left), sorted by ohms
-/// ascending.
+/// deduplicated (of two within 1 ppm keep fewer parts, then the tighter band, then more stock left), sorted
+/// by ohms ascending.
 pub fn in_window(stock: &Stock, max_parts: usize, low: Ohms, high: Ohms) -> Vec<Candidate> {
     Index::new(stock, max_parts).in_window(low, high)
 }
@@ -627,6 +706,7 @@ mod tests {
     }
 
     /// A network found by brute force, with everything the ranking rules look at.
+    #[derive(Clone)]
     struct Naive {
         network: Network,
         ohms: f64,
@@ -739,47 +819,52 @@ mod tests {
         ))
     }
 
-    /// The deduplication rule as the module documents it, applied to a plain list.
-    fn naive_dedupe(mut all: Vec<Naive>) -> Vec<Naive> {
-        all.sort_by(|a, b| a.ohms.partial_cmp(&b.ohms).unwrap());
-        let mut runs: Vec<Vec<Naive>> = Vec::new();
-        let mut prev: Option<f64> = None;
-        for c in all {
-            let joins = prev.is_some_and(|p| c.ohms - p <= 1e-6 * p);
-            prev = Some(c.ohms);
-            if joins {
-                runs.last_mut().unwrap().push(c);
-            } else {
-                runs.push(vec![c]);
+    /// The deduplication rule as the module documents it: in order of preference, keep each network unless
+    /// a kept one lies within 1 ppm of the smaller of the two. Returned by value.
+    fn naive_dedupe(mut set: Vec<Naive>) -> Vec<Naive> {
+        set.sort_by(naive_prefer);
+        let mut kept: Vec<Naive> = Vec::new();
+        for c in set {
+            let near = |k: &Naive| {
+                let (lo, hi) = (c.ohms.min(k.ohms), c.ohms.max(k.ohms));
+                hi - lo <= 1e-6 * lo
+            };
+            if !kept.iter().any(near) {
+                kept.push(c);
             }
         }
-        runs.into_iter()
-            .map(|mut run| {
-                run.sort_by(naive_prefer);
-                run.swap_remove(0)
-            })
-            .collect()
+        kept.sort_by(|a, b| a.ohms.partial_cmp(&b.ohms).unwrap());
+        kept
     }
 
-    fn naive_window(stock: &Stock, max_parts: usize, low: f64, high: f64) -> Vec<Naive> {
-        let all = naive_all(stock, max_parts)
-            .into_iter()
+    fn naive_window(all: &[Naive], low: f64, high: f64) -> Vec<Naive> {
+        let inside = all
+            .iter()
             .filter(|c| c.ohms >= low && c.ohms <= high)
+            .map(Naive::clone)
             .collect();
-        naive_dedupe(all)
+        naive_dedupe(inside)
     }
 
+    /// The documented search for the best: windows of ±1 ppm, ±4 ppm, … until one keeps k networks.
     fn naive_best(stock: &Stock, target: f64, max_parts: usize, k: usize) -> Vec<Naive> {
-        let mut all = naive_dedupe(naive_all(stock, max_parts));
+        let all = naive_all(stock, max_parts);
         let err = |c: &Naive| ((c.ohms - target) / target).abs();
-        all.sort_by(|a, b| {
-            err(a)
-                .partial_cmp(&err(b))
-                .unwrap()
-                .then_with(|| naive_prefer(a, b))
-        });
-        all.truncate(k);
-        all
+        let mut rho = 1e-6;
+        loop {
+            let mut found = naive_window(&all, target * (1.0 - rho), target * (1.0 + rho));
+            if found.len() >= k || all.iter().all(|c| err(c) <= rho) {
+                found.sort_by(|a, b| {
+                    err(a)
+                        .partial_cmp(&err(b))
+                        .unwrap()
+                        .then_with(|| naive_prefer(a, b))
+                });
+                found.truncate(k);
+                return found;
+            }
+            rho *= 4.0;
+        }
     }
 
     fn assert_same(fast: &[Candidate], naive: &[Naive], what: &str) {
@@ -834,7 +919,7 @@ mod tests {
                     (0.0, 1e12)
                 };
                 let fast = index.in_window(Ohms(low), Ohms(high));
-                let naive = naive_window(&stock, max_parts, low, high);
+                let naive = naive_window(&all, low, high);
                 assert_same(
                     &fast,
                     &naive,
@@ -1080,22 +1165,29 @@ mod tests {
     }
 
     #[test]
-    fn best_deduplicates_across_its_search_window() {
-        // 500k + 500k = 1M exactly, 600k + 400k0008 sits 0.8 ppm above it and a single 1M0000015 0.7 ppm above
-        // that: one run of 1-ppm neighbours, whose single-part member is kept though it is the farthest from
-        // 1M. A search that deduplicated only inside its first window (±1 ppm) would offer 500k + 500k.
+    fn deduplication_leaves_no_value_unrepresented() {
+        // 500k + 300k + 200k = 1M exactly; 600k + 400k0009 sits 0.9 ppm above it, and a single 1M0000018
+        // 0.9 ppm above that. The single is kept first (fewest parts) and drops the pair beside it; the
+        // triple is 1.8 ppm from the single, so nothing kept stands for it and it stays: best finds it.
         let s = Stock::from_parts(
-            "chain",
+            "neighbours",
             vec![
-                part(500e3, 0.05, 2, "A"),
+                part(1_000_001.8, 0.05, 1, "A"),
                 part(600e3, 0.05, 1, "B"),
-                part(400_000.8, 0.05, 1, "C"),
-                part(1_000_001.5, 0.05, 1, "D"),
+                part(400_000.9, 0.05, 1, "C"),
+                part(500e3, 0.05, 1, "D"),
+                part(300e3, 0.05, 1, "E"),
+                part(200e3, 0.05, 1, "F"),
             ],
         );
-        let b = best(&s, Ohms(1e6), 2, 1);
-        assert_eq!(b[0].uses, vec![(3, 1)]);
-        assert_same(&b, &naive_best(&s, 1e6, 2, 1), "chain");
+        let b = best(&s, Ohms(1e6), 3, 2);
+        assert_eq!(b[0].network.notation(), "500k+300k+200k");
+        assert_eq!(b[1].uses, vec![(0, 1)]);
+        assert_same(&b, &naive_best(&s, 1e6, 3, 2), "neighbours");
+        // A window holding the pair alone offers it: duplicates are settled among the networks asked for.
+        let w = in_window(&s, 3, Ohms(1_000_000.5), Ohms(1_000_001.0));
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].uses, vec![(1, 1), (2, 1)]);
     }
 
     #[test]
