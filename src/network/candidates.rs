@@ -210,6 +210,22 @@ impl<'a> Index<'a> {
             .collect()
     }
 
+    /// [`Index::in_window`], unless the window holds more than `limit` networks before deduplication: then
+    /// None, found without building them all, so that a huge stock cannot exhaust memory.
+    pub fn in_window_limited(&self, low: Ohms, high: Ohms, limit: usize) -> Option<Vec<Candidate>> {
+        let mut raws = Vec::new();
+        self.collect(low.0, high.0, limit, &mut raws);
+        if raws.len() > limit {
+            return None;
+        }
+        Some(
+            self.kept_from(raws)
+                .into_iter()
+                .map(|k| self.candidate(&k))
+                .collect(),
+        )
+    }
+
     /// The `k` best networks for `target`, ranked by |relative error|; ties go to fewer parts, then the
     /// tighter band, then more pieces left, then the shape order and part ids.
     ///
@@ -293,7 +309,7 @@ impl<'a> Index<'a> {
     }
 
     /// Every network (not yet deduplicated) with a value in [low, high].
-    fn collect(&self, low: f64, high: f64, out: &mut Vec<Raw>) {
+    fn collect(&self, low: f64, high: f64, limit: usize, out: &mut Vec<Raw>) {
         let n = self.entries.len();
         if n == 0 || high.is_nan() || low.is_nan() || high < low || high <= 0.0 {
             return;
@@ -314,6 +330,9 @@ impl<'a> Index<'a> {
         // per a (the pair search is the one that must take microseconds).
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a + a > high {
                 break;
             }
@@ -324,6 +343,9 @@ impl<'a> Index<'a> {
         }
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if Shape::Parallel2.eval([a, a, 0.0]) > high {
                 break;
             }
@@ -349,10 +371,16 @@ impl<'a> Index<'a> {
         }
         // Three in series, smallest first in the loops, written largest first.
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a + a + a > high {
                 break;
             }
             for (j, &b) in v.iter().enumerate().skip(i) {
+                if out.len() > limit {
+                    return;
+                }
                 if b + b + a > high {
                     break;
                 }
@@ -369,6 +397,9 @@ impl<'a> Index<'a> {
         }
         // Three in parallel: i ≤ j ≤ k by value, so 1/R is at least 1/a and at most 3/a.
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if Shape::Parallel3.eval([a, a, a]) > high {
                 break;
             }
@@ -384,6 +415,9 @@ impl<'a> Index<'a> {
                 i
             };
             for (j, &b) in v.iter().enumerate().skip(first) {
+                if out.len() > limit {
+                    return;
+                }
                 if Shape::Parallel3.eval([a, b, b]) > high {
                     break;
                 }
@@ -407,6 +441,9 @@ impl<'a> Index<'a> {
         }
         // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a > high {
                 break;
             }
@@ -414,6 +451,9 @@ impl<'a> Index<'a> {
             let p_hi = high - a + slack;
             let first = v.partition_point(|&b| b < p_lo * (1.0 - SLACK));
             for (i, &b) in v.iter().enumerate().skip(first) {
+                if out.len() > limit {
+                    return;
+                }
                 if a + Shape::Parallel2.eval([b, b, 0.0]) > high {
                     break;
                 }
@@ -438,6 +478,9 @@ impl<'a> Index<'a> {
         }
         // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a < low * (1.0 - SLACK) {
                 continue;
             }
@@ -455,6 +498,9 @@ impl<'a> Index<'a> {
             };
             let first = v.partition_point(|&b| b < s_lo / 2.0 * (1.0 - SLACK));
             for (j, &b) in v.iter().enumerate().skip(first) {
+                if out.len() > limit {
+                    return;
+                }
                 if b > s_hi {
                     break;
                 }
@@ -535,7 +581,12 @@ impl<'a> Index<'a> {
     /// so each run is settled on its own.
     fn kept_in(&self, low: f64, high: f64) -> Vec<Kept> {
         let mut raws = Vec::new();
-        self.collect(low, high, &mut raws);
+        self.collect(low, high, usize::MAX, &mut raws);
+        self.kept_from(raws)
+    }
+
+    /// Deduplicates raw networks (see [`Index::in_window`]).
+    fn kept_from(&self, mut raws: Vec<Raw>) -> Vec<Kept> {
         raws.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
         let all: Vec<Kept> = raws.into_iter().map(|r| self.keep(r)).collect();
         let mut out = Vec::with_capacity(all.len());
