@@ -7,9 +7,11 @@
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 
+pub mod bench;
 pub mod network;
 pub mod notation;
 pub mod optimise;
+pub mod report;
 pub mod stage;
 pub mod stock;
 pub mod units;
