@@ -36,7 +36,10 @@ fn load(path: &str) -> Design {
 
 /// Time of one full design, in seconds, and its error.
 fn run(d: &Design, stock: &Stock, parts: usize) -> (f64, f64) {
-    let request = Request { max_parts: parts, ..Request::default() };
+    let request = Request {
+        max_parts: parts,
+        ..Request::default()
+    };
     let t = Instant::now();
     let out = design(d, stock, &request, &mut |_| {}).expect("a design");
     let secs = t.elapsed().as_secs_f64();
@@ -93,14 +96,20 @@ fn main() {
     let e6 = kit(Series::E6, 10.0, 1e6, 10);
 
     println!("design benchmark (each figure measured in this run)\n");
-    println!("{:<34} {:>10} {:>10} {:>8}", "case", "seconds", "target s", "ratio");
+    println!(
+        "{:<34} {:>10} {:>10} {:>8}",
+        "case", "seconds", "target s", "ratio"
+    );
     for (name, d, stock, parts, target) in [
         ("E24 kit, pairs, one divider stage", &one, &e24, 2, 1.0),
         ("E24 kit, pairs, two-stage board", &two, &e24, 2, 3.0),
         ("E12 kit, triples, one stage", &one, &e12, 3, 10.0),
     ] {
         let (secs, _) = run(d, stock, parts);
-        println!("{name:<34} {secs:>10.3} {target:>10.1} {:>7.1}×", target / secs);
+        println!(
+            "{name:<34} {secs:>10.3} {target:>10.1} {:>7.1}×",
+            target / secs
+        );
     }
 
     println!("\ngrowth with stock size and --parts, and speed-up over exhaustive enumeration of the same candidates");
@@ -125,7 +134,10 @@ fn main() {
             // Exhaustive search only where it finishes in reasonable time (about 2e7 combinations).
             if combos <= 20_000_000 {
                 let (ex, best, _) = exhaustive(&one, stock, parts, 3.0);
-                assert!((best - err).abs() < 1e-9 || err <= best, "search {err} vs exhaustive {best}");
+                assert!(
+                    (best - err).abs() < 1e-9 || err <= best,
+                    "search {err} vs exhaustive {best}"
+                );
                 println!(
                     "{name:<10} {parts:>6} {secs:>12.4} {:>11.3}% {combos:>14} {ex:>10.3} {:>8.0}×",
                     err * 100.0,

@@ -90,7 +90,11 @@ impl Progress {
                         continue;
                     }
                     let text = phase.lock().map(|p| p.clone()).unwrap_or_default();
-                    eprint!("\r\x1b[2K{} {text} ({:.0} s)", frames[i % 4], started.elapsed().as_secs_f64());
+                    eprint!(
+                        "\r\x1b[2K{} {text} ({:.0} s)",
+                        frames[i % 4],
+                        started.elapsed().as_secs_f64()
+                    );
                     shown = true;
                     i += 1;
                 }
@@ -99,7 +103,11 @@ impl Progress {
                 }
             })
         });
-        Progress { phase, done, thread }
+        Progress {
+            phase,
+            done,
+            thread,
+        }
     }
 
     /// Says what is being done now.

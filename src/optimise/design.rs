@@ -2,7 +2,9 @@
 //! search, then the integer program that shares the stock across stages and boards; plus the hand-rounded
 //! baseline and, when nothing fits, the constraint that binds.
 
-use super::search::{best_variants, Deviations, Effort, Evaluate, Found, Order, GAIN, IC, RC, VCE, VE};
+use super::search::{
+    best_variants, Deviations, Effort, Evaluate, Found, Order, GAIN, IC, RC, VCE, VE,
+};
 use super::share::{allocate, ShareError, Variant};
 use crate::network::candidates::{in_window, Candidate};
 use crate::network::{Network, PartId};
@@ -141,8 +143,14 @@ pub fn solve_order(topology: Topology, slots: &[Slot]) -> Order {
     };
     let scan = pos(scan).expect("every topology has its scan slot");
     let collector = collector.and_then(pos);
-    let outer = (0..slots.len()).filter(|&i| i != scan && Some(i) != collector).collect();
-    Order { outer, scan, collector }
+    let outer = (0..slots.len())
+        .filter(|&i| i != scan && Some(i) != collector)
+        .collect();
+    Order {
+        outer,
+        scan,
+        collector,
+    }
 }
 
 /// The search's view of one stage.
@@ -161,7 +169,12 @@ impl Model<'_> {
     }
 
     fn networks(&self, picks: &[&Candidate]) -> SlotNetworks {
-        SlotNetworks::from_pairs(self.slots.iter().copied().zip(picks.iter().map(|c| c.network.clone())))
+        SlotNetworks::from_pairs(
+            self.slots
+                .iter()
+                .copied()
+                .zip(picks.iter().map(|c| c.network.clone())),
+        )
     }
 }
 
@@ -189,7 +202,12 @@ fn describe(c: &Check) -> String {
         CheckUnit::Watts => engineering(x, "W"),
     };
     let op = if c.at_least { "≥" } else { "≤" };
-    format!("{} {} (needs {op} {})", c.name, show(c.value), show(c.limit))
+    format!(
+        "{} {} (needs {op} {})",
+        c.name,
+        show(c.value),
+        show(c.limit)
+    )
 }
 
 impl Evaluate for Model<'_> {
@@ -238,6 +256,9 @@ fn kept(network: &Network) -> Candidate {
     }
 }
 
+/// One stage's slots, their candidate lists, and the variants the search found.
+type Searched = (Vec<Slot>, Vec<Vec<Candidate>>, Vec<Found>);
+
 /// Designs every stage of `design` from `stock`.
 pub fn design(
     design: &Design,
@@ -248,12 +269,17 @@ pub fn design(
     let started = Instant::now();
     let on_hand: Vec<u32> = stock.parts.iter().map(|p| p.qty).collect();
     let mut variants: Vec<Variant> = Vec::new();
-    let mut found_per_stage: Vec<(Vec<Slot>, Vec<Vec<Candidate>>, Vec<Found>)> = Vec::new();
+    let mut found_per_stage: Vec<Searched> = Vec::new();
     let mut baseline = Vec::new();
     let mut evaluations = 0u64;
     let mut cut_short = false;
     for (si, stage) in design.stages.iter().enumerate() {
-        progress(&format!("stage {} of {}: {}", si + 1, design.stages.len(), stage.name));
+        progress(&format!(
+            "stage {} of {}: {}",
+            si + 1,
+            design.stages.len(),
+            stage.name
+        ));
         let ideal = stage.ideal()?;
         let slots = stage.slots();
         for (ks, slot, _) in &request.keep {
@@ -261,22 +287,47 @@ pub fn design(
                 return Err(DesignError::NoSuchSlot {
                     stage: stage.name.clone(),
                     slot: *slot,
-                    slots: slots.iter().map(|s| s.to_string()).collect::<Vec<_>>().join(", "),
+                    slots: slots
+                        .iter()
+                        .map(|s| s.to_string())
+                        .collect::<Vec<_>>()
+                        .join(", "),
                 });
             }
         }
         let candidates: Vec<Vec<Candidate>> = slots
             .iter()
             .map(|&s| {
-                if let Some((_, _, n)) = request.keep.iter().find(|(ks, ksl, _)| *ks == si && *ksl == s) {
+                if let Some((_, _, n)) = request
+                    .keep
+                    .iter()
+                    .find(|(ks, ksl, _)| *ks == si && *ksl == s)
+                {
                     return vec![kept(n)];
                 }
-                let x = ideal.values.get(s).expect("the ideal design sets every slot");
-                in_window(stock, request.max_parts, x / request.window, x * request.window)
+                let x = ideal
+                    .values
+                    .get(s)
+                    .expect("the ideal design sets every slot");
+                in_window(
+                    stock,
+                    request.max_parts,
+                    x / request.window,
+                    x * request.window,
+                )
             })
             .collect();
-        let model = Model { stage, slots: slots.clone() };
-        baseline.push(baseline_of(si, &model, stock, &ideal.values, request.copies));
+        let model = Model {
+            stage,
+            slots: slots.clone(),
+        };
+        baseline.push(baseline_of(
+            si,
+            &model,
+            stock,
+            &ideal.values,
+            request.copies,
+        ));
         if let Some(empty) = slots.iter().zip(&candidates).find(|(_, c)| c.is_empty()) {
             return Err(DesignError::Infeasible {
                 stage: stage.name.clone(),
@@ -290,7 +341,8 @@ pub fn design(
         }
         let order = solve_order(stage.topology, &slots);
         let k = request.variants.max(request.alternatives + 1);
-        let (found, effort): (Vec<Found>, Effort) = best_variants(&model, &order, &candidates, k, &on_hand);
+        let (found, effort): (Vec<Found>, Effort) =
+            best_variants(&model, &order, &candidates, k, &on_hand);
         evaluations += effort.evaluations;
         if found.is_empty() {
             return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
@@ -304,12 +356,16 @@ pub fn design(
             });
         }
         found_per_stage.push((slots, candidates, found));
-        if request.time_limit.is_some_and(|l| started.elapsed() >= l) && si + 1 < design.stages.len() {
+        if request.time_limit.is_some_and(|l| started.elapsed() >= l)
+            && si + 1 < design.stages.len()
+        {
             cut_short = true;
         }
     }
     progress("sharing the stock");
-    let remaining = request.time_limit.map(|l| l.saturating_sub(started.elapsed()));
+    let remaining = request
+        .time_limit
+        .map(|l| l.saturating_sub(started.elapsed()));
     let allocation = match allocate(&variants, design.stages.len(), request.copies, &on_hand, remaining) {
         Ok(a) => a,
         Err(ShareError::Scarce { copies }) => {
@@ -330,7 +386,10 @@ pub fn design(
     let to_built = |si: usize, f: &Found, copies: u32| -> Built {
         let (slots, candidates, _) = &found_per_stage[si];
         let networks = SlotNetworks::from_pairs(
-            slots.iter().enumerate().map(|(p, &s)| (s, candidates[p][f.picks[p]].network.clone())),
+            slots
+                .iter()
+                .enumerate()
+                .map(|(p, &s)| (s, candidates[p][f.picks[p]].network.clone())),
         );
         // The reported error is always the DC solver's, recomputed on the final networks.
         let error = design.stages[si].error(&networks.values());
@@ -381,7 +440,13 @@ pub fn design(
 }
 
 /// Rounds each slot to the single stock value nearest its ideal (in ratio), the way it is done by hand.
-fn baseline_of(si: usize, model: &Model, stock: &Stock, ideal: &SlotValues, copies: u32) -> Baseline {
+fn baseline_of(
+    si: usize,
+    model: &Model,
+    stock: &Stock,
+    ideal: &SlotValues,
+    copies: u32,
+) -> Baseline {
     let mut need: std::collections::BTreeMap<PartId, u32> = std::collections::BTreeMap::new();
     let pairs: Vec<(Slot, Network)> = model
         .slots
@@ -394,7 +459,10 @@ fn baseline_of(si: usize, model: &Model, stock: &Stock, ideal: &SlotValues, copi
                 .enumerate()
                 .filter(|(_, p)| p.qty > 0)
                 .min_by(|(_, a), (_, b)| {
-                    (a.ohms.0 / x.0).ln().abs().total_cmp(&(b.ohms.0 / x.0).ln().abs())
+                    (a.ohms.0 / x.0)
+                        .ln()
+                        .abs()
+                        .total_cmp(&(b.ohms.0 / x.0).ln().abs())
                 })
                 .expect("a stock with parts");
             *need.entry(id).or_default() += copies;
@@ -435,7 +503,12 @@ fn infeasible(
     let reason = match closest.first() {
         None => "no stocked network comes within reach of the targets".to_string(),
         Some(f) => {
-            let picks: Vec<&Candidate> = f.picks.iter().enumerate().map(|(p, &i)| &candidates[p][i]).collect();
+            let picks: Vec<&Candidate> = f
+                .picks
+                .iter()
+                .enumerate()
+                .map(|(p, &i)| &candidates[p][i])
+                .collect();
             let nets = model.networks(&picks);
             let failing: Vec<String> = stage
                 .checks(&nets)
@@ -447,7 +520,10 @@ fn infeasible(
             let mut why = if failing.is_empty() && short {
                 "no stocked network set meets the hard constraints with the parts on hand (the closest needs the same part in two slots)".to_string()
             } else {
-                format!("no stocked network set meets the hard constraints; binding: {}", failing.join("; "))
+                format!(
+                    "no stocked network set meets the hard constraints; binding: {}",
+                    failing.join("; ")
+                )
             };
             why.push_str(&format!(
                 ". Closest: {} (error {:.2} %). Widen the stock with `biasfit order`",

@@ -6,8 +6,8 @@
 //! ([`share`]) chooses how many copies of each variant to build so that the stock is shared and never
 //! over-drawn.
 
-pub mod search;
 pub mod design;
+pub mod search;
 pub mod share;
 
 pub use share::{allocate, Allocation, ShareError, Variant};

@@ -83,6 +83,9 @@ impl SlotNetworks {
     }
 }
 
+/// The relative slack every limit is compared with.
+pub(super) const SLACK: f64 = 1e-9;
+
 fn check(
     name: impl Into<String>,
     value: f64,
@@ -90,10 +93,12 @@ fn check(
     unit: CheckUnit,
     at_least: bool,
 ) -> Check {
+    // A part-per-billion of slack, so that a design sitting exactly on its limit (as an ideal one can)
+    // does not fail on rounding.
     let ok = if at_least {
-        value >= limit
+        value >= limit * (1.0 - SLACK)
     } else {
-        value <= limit
+        value <= limit * (1.0 + SLACK)
     };
     Check {
         name: name.into(),

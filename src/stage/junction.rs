@@ -129,7 +129,13 @@ fn active_diode(a0: f64, k: f64, v0: f64, i0: f64, nvt: f64) -> Option<f64> {
             }
         }
     }
-    let mut x = 0.5 * (lo + hi);
+    // Start where a fixed VBE of v0 would put IC: usually within a few n·VT of the root.
+    let guess = ((a0 - v0) / k).ln();
+    let mut x = if guess > lo && guess < hi {
+        guess
+    } else {
+        0.5 * (lo + hi)
+    };
     for _ in 0..200 {
         let gx = g(x);
         if gx == 0.0 {

@@ -871,37 +871,50 @@ impl Stage {
             .reduce(f64::max)
     }
 
-    /// The temperatures the active region must hold at: ambient, and the range's ends when given.
-    fn temperatures(&self) -> impl Iterator<Item = Celsius> {
-        let a = self.limits.ambient;
-        let (lo, hi) = self.limits.temperature.unwrap_or((a, a));
-        [a, lo, hi].into_iter()
-    }
-
     /// The hard constraints that do not involve ratings: stiffness at min beta, the divider current within
     /// divider_max × its design value, and the active region at min and max beta (at each temperature
     /// extreme too, when the design gives a range).
     pub fn electrical_ok(&self, r: &SlotValues) -> bool {
         let res = Resolved::of(self, r);
         let b = self.transistor.beta;
-        for t in self.temperatures() {
-            for beta in [b.min, b.max] {
-                if self.solve_resolved(&res, beta, t).region != Region::Active {
-                    return false;
+        let ambient = self.limits.ambient;
+        let lo = self.solve_resolved(&res, b.min, ambient);
+        if lo.region != Region::Active {
+            return false;
+        }
+        let hi = self.solve_resolved(&res, b.max, ambient);
+        if hi.region != Region::Active {
+            return false;
+        }
+        let stiffness = match self.topology {
+            Topology::Divider | Topology::DividerSplit => {
+                lo.divider_current.map_or(0.0, |i| i.0) / lo.ib.0
+            }
+            Topology::DualSupply => {
+                (self.betas_at(ambient).min + 1.0) * res.get(Slot::RE) / res.get(Slot::RB)
+            }
+            _ => f64::INFINITY,
+        };
+        if stiffness.is_nan() || stiffness < self.rule.stiffness * (1.0 - checks::SLACK) {
+            return false;
+        }
+        if let Some(design) = self.targets().divider_current {
+            // The divider current grows with beta (less base loading), so max beta is its worst case.
+            let i = lo
+                .divider_current
+                .map_or(0.0, |i| i.0)
+                .max(hi.divider_current.map_or(0.0, |i| i.0));
+            if i.is_nan() || i > self.rule.divider_max * design.0 * (1.0 + checks::SLACK) {
+                return false;
+            }
+        }
+        if let Some((t_lo, t_hi)) = self.limits.temperature {
+            for t in [t_lo, t_hi] {
+                for beta in [b.min, b.max] {
+                    if self.solve_resolved(&res, beta, t).region != Region::Active {
+                        return false;
+                    }
                 }
-            }
-        }
-        if let Some(s) = self.stiffness_of(&res) {
-            if s.is_nan() || s < self.rule.stiffness {
-                return false;
-            }
-        }
-        if let (Some(i), Some(design)) = (
-            self.divider_current_max(&res),
-            self.targets().divider_current,
-        ) {
-            if i.is_nan() || i > self.rule.divider_max * design.0 {
-                return false;
             }
         }
         true

@@ -473,3 +473,111 @@ fn slot_names_round_trip() {
     }
     assert!("R3".parse::<Slot>().is_err());
 }
+
+#[test]
+fn temperature_shifts_vbe_and_beta() {
+    let text = toml_for(Topology::Divider, Polarity::Npn, false).replace(
+        "vce_sat = 0.15",
+        "vce_sat = 0.15\nbeta_tempco = 0.005\nvbe_tempco = -0.0021",
+    );
+    let st = stage_of(&text);
+    let r = st.ideal().unwrap().values;
+    // At 65 °C, 40 °C above the 25 °C reference: beta 160·(1 + 0.2) = 192 and VBE 0.62 − 0.084 = 0.536 V.
+    let op = st.solve(&r, 160.0, Celsius(65.0));
+    assert!((op.beta - 192.0).abs() < 1e-12);
+    assert!((op.vbe.0 - 0.536).abs() < 1e-12, "{}", op.vbe.0);
+    // Less VBE and more beta both raise IC.
+    assert!(op.ic > st.typical(&r).ic);
+}
+
+#[test]
+fn split_emitter_ac_figures_by_hand() {
+    let st = stage_of(&toml_for(Topology::DividerSplit, Polarity::Npn, false));
+    let r = st.ideal().unwrap().values;
+    let op = st.typical(&r);
+    let ac = st.ac(&r).unwrap();
+    let g = |s: Slot| r.get(s).unwrap().0;
+    // re' = VT/IE with VT at 25 °C (fixed VBE: n = 1); gain (RC∥RL)/(re' + RE1) is the rule's 6 exactly.
+    let re_prime = thermal_voltage(Celsius(25.0)).0 / op.ie.0;
+    assert!((ac.re_prime.0 - re_prime).abs() < 1e-9);
+    assert!((ac.gain - 6.0).abs() < 1e-9, "{}", ac.gain);
+    let rac = g(Slot::RC) * 3900.0 / (g(Slot::RC) + 3900.0);
+    let rth = g(Slot::R1) * g(Slot::R2) / (g(Slot::R1) + g(Slot::R2));
+    let zb = 161.0 * (re_prime + g(Slot::RE1));
+    assert!((ac.input.0 - rth * zb / (rth + zb)).abs() < 1e-6);
+    assert_eq!(ac.output.0, g(Slot::RC));
+    let swing = (op.ic.0 * rac).min((op.vce.0 - 0.15) * rac / (rac + g(Slot::RE1)));
+    assert!((ac.swing.0 - swing).abs() < 1e-12);
+    // A gain the operating point cannot give is refused with the reason.
+    let greedy =
+        toml_for(Topology::DividerSplit, Polarity::Npn, false).replace("gain = 6", "gain = 500");
+    let err = stage_of(&greedy).ideal().unwrap_err().to_string();
+    assert!(
+        err.contains("more than this operating point can give"),
+        "{err}"
+    );
+}
+
+#[test]
+fn pnp_supply_may_be_written_negative() {
+    let pos = stage_of(&toml_for(Topology::Divider, Polarity::Pnp, false));
+    let neg = stage_of(
+        &toml_for(Topology::Divider, Polarity::Pnp, false).replace("supply = 15", "supply = -15"),
+    );
+    assert_eq!(pos.supply, neg.supply);
+    let npn_neg =
+        toml_for(Topology::Divider, Polarity::Npn, false).replace("supply = 15", "supply = -15");
+    assert!(parse("n.toml", &npn_neg)
+        .unwrap_err()
+        .to_string()
+        .contains("polarity = \"pnp\""));
+}
+
+mod solver_properties {
+    use super::super::junction::{solve, Env, Law};
+    use super::super::Region;
+    use proptest::prelude::*;
+
+    proptest! {
+        /// The diode-law solve converges for any network a real stage can make, and its answer meets the
+        /// loop equations and the law to within 1e-9 V.
+        #[test]
+        fn diode_law_always_converges(
+            a0 in 0.0f64..60.0,
+            rb in 10.0f64..1e7,
+            re in 0.0f64..1e5,
+            rc in 1.0f64..1e5,
+            c0 in 0.5f64..60.0,
+            beta in 1.0f64..2000.0,
+            v0 in 0.3f64..0.9,
+            i0 in 1e-6f64..1e-1,
+            n in 0.8f64..2.0,
+            feedback in any::<bool>(),
+        ) {
+            // The divider-like loop shape, or collector feedback's (RC shared by both loops, cb = cc).
+            let env = if feedback {
+                Env { a0: c0, ab: rc + rb + re, ac: rc + re, c0, cb: rc + re, cc: rc + re }
+            } else {
+                Env { a0, ab: rb + re, ac: re, c0, cb: re, cc: rc + re }
+            };
+            let nvt = n * 0.025_852;
+            let law = Law::Diode { v0, i0, nvt };
+            let j = solve(&env, &law, beta, 0.1);
+            prop_assert!(j.ib.is_finite() && j.ic.is_finite() && j.ib >= 0.0 && j.ic >= 0.0);
+            let vbe = env.a0 - env.ab * j.ib - env.ac * j.ic;
+            let vce = env.c0 - env.cb * j.ib - env.cc * j.ic;
+            match j.region {
+                Region::Active => {
+                    prop_assert!((vbe - law.vbe_at(j.ic)).abs() < 1e-9);
+                    prop_assert!((j.ic - beta * j.ib).abs() <= 1e-12 * j.ic);
+                    prop_assert!(vce >= 0.1 - 1e-9);
+                }
+                Region::Saturation => {
+                    prop_assert!((vce - 0.1).abs() < 1e-9 || j.ic == 0.0);
+                    prop_assert!(j.ic <= beta * j.ib * (1.0 + 1e-9));
+                }
+                Region::Cutoff => prop_assert!(j.ic == 0.0 && j.ib == 0.0),
+            }
+        }
+    }
+}
