@@ -5,10 +5,12 @@
 
 mod check;
 mod design;
+mod drawings;
 mod fix;
 mod ideal;
 mod output;
 mod stock;
+mod verify;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -35,6 +37,8 @@ enum Command {
     Check(check::CheckArgs),
     /// Fill every slot of every stage from stock so the operating points land closest to their targets
     Design(design::DesignArgs),
+    /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
+    Verify(verify::VerifyArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
@@ -83,6 +87,7 @@ pub fn main() -> ExitCode {
         Command::Ideal(args) => ideal::run(args, &mut out),
         Command::Check(args) => check::run(args, &mut out),
         Command::Design(args) => design::run(args, &mut out),
+        Command::Verify(args) => verify::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -1,14 +1,16 @@
 //! The report model: what a command found about each stage, as plain data that serialises to the `--json`
 //! contract (SI base units throughout) and that the pure renderers in [`table`] turn into text, [`svg`] into
-//! drawings.
+//! drawings and [`html`] into a build sheet.
 //!
 //! The stage object, `{name, topology, region, target, op, error, slots, checks}`, is shared by every command
 //! that evaluates built stages (check, ideal, and later design, fix, order and spread); it may gain keys but
 //! never loses or renames one. Relies on [`crate::stage`] for the numbers and [`crate::network`] for parts.
 
 pub mod design;
+pub mod html;
 pub mod svg;
 pub mod table;
+pub mod verify;
 
 use crate::network::Network;
 use crate::notation::{code, Series};
