@@ -134,7 +134,12 @@ pub enum DesignError {
 /// The scan slot is the one the bias deviations (IC, VE) depend on monotonically for fixed outer slots; the
 /// collector slot is the one that moves only VCE, RC/RL and gain while the transistor is active. In collector
 /// feedback RC sits in the bias loop, so it is enumerated instead and RB carries every deviation.
-pub fn solve_order(topology: Topology, slots: &[Slot]) -> Order {
+pub fn solve_order(
+    topology: Topology,
+    slots: &[Slot],
+    ideal: &SlotValues,
+    load: Option<Ohms>,
+) -> Order {
     let pos = |s: Slot| slots.iter().position(|&x| x == s);
     let (scan, collector) = match topology {
         Topology::Divider | Topology::DividerSplit => (Slot::R1, Some(Slot::RC)),
@@ -143,13 +148,33 @@ pub fn solve_order(topology: Topology, slots: &[Slot]) -> Order {
     };
     let scan = pos(scan).expect("every topology has its scan slot");
     let collector = collector.and_then(pos);
-    let outer = (0..slots.len())
+    let outer: Vec<usize> = (0..slots.len())
         .filter(|&i| i != scan && Some(i) != collector)
+        .collect();
+    // The emitter window needs VE = IE·RE measured from ground, which a dual supply's VE is not.
+    let emitter: Vec<usize> = match topology {
+        Topology::DualSupply => Vec::new(),
+        _ => [Slot::RE, Slot::RE1, Slot::RE2]
+            .into_iter()
+            .filter_map(pos)
+            .collect(),
+    };
+    let emitter_ohms = emitter
+        .iter()
+        .map(|&p| ideal.get(slots[p]).map_or(0.0, |r| r.0))
+        .sum();
+    let centre = slots
+        .iter()
+        .map(|&s| ideal.get(s).unwrap_or(Ohms(1.0)))
         .collect();
     Order {
         outer,
         scan,
         collector,
+        emitter,
+        emitter_ohms,
+        centre,
+        collector_target: collector.and(load),
     }
 }
 
@@ -339,7 +364,7 @@ pub fn design(
                 ),
             });
         }
-        let order = solve_order(stage.topology, &slots);
+        let order = solve_order(stage.topology, &slots, &ideal.values, stage.targets().rc);
         let k = request.variants.max(request.alternatives + 1);
         let (found, effort): (Vec<Found>, Effort) =
             best_variants(&model, &order, &candidates, k, &on_hand);

@@ -66,6 +66,34 @@ pub struct Order {
     /// The slot that changes only the collector-side deviations (RC), searched last; None when the collector
     /// resistor is part of the bias loop (collector feedback), where it is an outer slot instead.
     pub collector: Option<usize>,
+    /// Outer slots whose sum is the emitter resistance, when the emitter voltage is IE·RE from ground (all
+    /// but dual supply). They are enumerated last, and only within the window the bound allows.
+    pub emitter: Vec<usize>,
+    /// The emitter resistance that gives exactly VE* at IC* (the ideal design's), in ohms.
+    pub emitter_ohms: f64,
+    /// Each slot's ideal value: outer slots are enumerated from it outward, so that good variants come first
+    /// and tighten the bound early.
+    pub centre: Vec<Ohms>,
+    /// The load RC is to match, when the error includes RC/RL: then only collector candidates within the
+    /// bound of it need a look.
+    pub collector_target: Option<Ohms>,
+}
+
+impl Order {
+    /// The emitter resistances that can still give an error below `bound`.
+    ///
+    /// VE = IE·RE and IE = IC·(β+1)/β, so with k = RE/RE* the deviations satisfy 1 + dVE = (1 + dIC)·k; the
+    /// smallest max(|dIC|, |dVE|) over every choice of the other slots is |1 − k|/(1 + k). It is below the
+    /// bound exactly when k lies within ((1 − b)/(1 + b), (1 + b)/(1 − b)).
+    fn emitter_window(&self, bound: f64) -> (f64, f64) {
+        if bound >= 1.0 {
+            return (0.0, f64::INFINITY);
+        }
+        // A hair of slack so that rounding never drops a candidate on the edge.
+        let lo = self.emitter_ohms * (1.0 - bound) / (1.0 + bound) * (1.0 - 1e-9);
+        let hi = self.emitter_ohms * (1.0 + bound) / (1.0 - bound) * (1.0 + 1e-9);
+        (lo, hi)
+    }
 }
 
 /// One complete assignment of candidates to a stage's slots.
@@ -153,89 +181,261 @@ fn pass(
     effort: &mut Effort,
 ) -> BinaryHeap<Entry> {
     let n = candidates.len();
-    let mut heap: BinaryHeap<Entry> = BinaryHeap::new();
-    let mut values: Vec<Ohms> = candidates.iter().map(|c| c[0].ohms).collect();
-    let mut picks = vec![0usize; n];
-    // The collector slot is set to the smallest resistance while the bias part is searched: the bias part does
-    // not depend on it in the active region, and a small RC keeps the transistor out of saturation.
-    let neutral = Ohms(crate::notation::value::MIN_OHMS);
+    let mut state = Pass {
+        model,
+        order,
+        candidates,
+        k,
+        stock,
+        cap,
+        heap: BinaryHeap::new(),
+        values: candidates.iter().map(|c| c[0].ohms).collect(),
+        picks: vec![0usize; n],
+        effort,
+    };
+    // Outer slots other than the emitter ones, each visited from its ideal value outward; the emitter slots
+    // come last, where the bound narrows them to a window.
+    let plain: Vec<usize> = order
+        .outer
+        .iter()
+        .copied()
+        .filter(|s| !order.emitter.contains(s))
+        .collect();
+    let orders = visiting_order(model, order, candidates, &plain, state.effort);
+    state.outer(&plain, &orders, 0);
+    state.heap
+}
+
+/// The order in which each plain outer slot's candidates are visited: those that look feasible first, each
+/// group from the best-looking outward.
+///
+/// Only the order changes, never the set visited, so the result stays exact; but visiting good, feasible
+/// variants first tightens the bound early, and that is what keeps the search small. (The ideal R2 sits at the
+/// stiffness limit, so half of the values near it are infeasible: visiting them first would keep the bound
+/// loose for a long time.) Each candidate is probed with the other slots at the candidates nearest their ideal,
+/// the scan slot at its best and the collector slot at its ideal.
+fn visiting_order(
+    model: &dyn Evaluate,
+    order: &Order,
+    candidates: &[Vec<Candidate>],
+    plain: &[usize],
+    effort: &mut Effort,
+) -> Vec<Vec<usize>> {
+    let nearest = |slot: usize| {
+        let centre = order.centre.get(slot).map_or(1.0, |c| c.0);
+        let list = &candidates[slot];
+        (0..list.len())
+            .min_by(|&a, &b| {
+                (list[a].ohms.0 / centre)
+                    .ln()
+                    .abs()
+                    .total_cmp(&(list[b].ohms.0 / centre).ln().abs())
+            })
+            .unwrap_or(0)
+    };
+    let base: Vec<Ohms> = (0..candidates.len())
+        .map(|s| candidates[s][nearest(s)].ohms)
+        .collect();
     let scan_set: &[usize] = if order.collector.is_some() {
         &BIAS
     } else {
         &ALL
     };
-    let bound = |heap: &BinaryHeap<Entry>| {
-        if heap.len() >= k {
-            heap.peek().map_or(cap, |e| e.0.error.min(cap))
-        } else {
-            cap
-        }
-    };
-    let mut odometer = vec![0usize; order.outer.len()];
-    loop {
-        for (d, &slot) in order.outer.iter().enumerate() {
-            picks[slot] = odometer[d];
-            values[slot] = candidates[slot][odometer[d]].ohms;
-        }
-        if let Some(c) = order.collector {
-            values[c] = neutral;
-        }
-        let scan = &candidates[order.scan];
-        let dev_at = |i: usize, values: &mut Vec<Ohms>, effort: &mut Effort| {
-            values[order.scan] = scan[i].ohms;
-            effort.evaluations += 1;
-            model.deviations(values)
-        };
-        let best_scan = valley(scan.len(), scan_set, |i| dev_at(i, &mut values, effort));
-        scan_both_sides(best_scan, scan.len(), &mut |i| {
-            let d = dev_at(i, &mut values, effort);
-            let b = largest(&d, scan_set);
-            if b >= bound(&heap) {
-                return false;
-            }
-            picks[order.scan] = i;
-            match order.collector {
-                None => consider(
-                    model, candidates, &picks, &values, b, k, stock, &mut heap, effort,
-                ),
-                Some(c) => {
-                    let coll = &candidates[c];
-                    let dev_c = |j: usize, values: &mut Vec<Ohms>, effort: &mut Effort| {
-                        values[c] = coll[j].ohms;
+    plain
+        .iter()
+        .map(|&slot| {
+            let list = &candidates[slot];
+            let mut keyed: Vec<(bool, f64, usize)> = (0..list.len())
+                .map(|i| {
+                    let mut values = base.clone();
+                    values[slot] = list[i].ohms;
+                    if let Some(c) = order.collector {
+                        values[c] = Ohms(crate::notation::value::MIN_OHMS);
+                    }
+                    let scan = &candidates[order.scan];
+                    let best = valley(scan.len(), scan_set, |j| {
+                        values[order.scan] = scan[j].ohms;
                         effort.evaluations += 1;
-                        model.deviations(values)
-                    };
-                    let best_c = valley(coll.len(), &COLLECTOR, |j| dev_c(j, &mut values, effort));
-                    scan_both_sides(best_c, coll.len(), &mut |j| {
-                        let e = largest(&dev_c(j, &mut values, effort), &ALL);
-                        if e >= bound(&heap) {
-                            return false;
-                        }
-                        picks[c] = j;
-                        consider(
-                            model, candidates, &picks, &values, e, k, stock, &mut heap, effort,
-                        );
-                        true
+                        model.deviations(&values)
                     });
-                    values[c] = neutral;
-                }
+                    values[order.scan] = scan[best].ohms;
+                    let b = largest(&model.deviations(&values), scan_set);
+                    if let Some(c) = order.collector {
+                        values[c] = base[c];
+                    }
+                    effort.evaluations += 1;
+                    (!model.electrical_ok(&values), b, i)
+                })
+                .collect();
+            keyed.sort_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1)));
+            keyed.into_iter().map(|(_, _, i)| i).collect()
+        })
+        .collect()
+}
+
+/// The search's working state during one pass.
+struct Pass<'a> {
+    model: &'a dyn Evaluate,
+    order: &'a Order,
+    candidates: &'a [Vec<Candidate>],
+    k: usize,
+    stock: &'a [u32],
+    cap: f64,
+    heap: BinaryHeap<Entry>,
+    values: Vec<Ohms>,
+    picks: Vec<usize>,
+    effort: &'a mut Effort,
+}
+
+impl Pass<'_> {
+    /// The error a variant must beat to enter the K best.
+    fn bound(&self) -> f64 {
+        if self.heap.len() >= self.k {
+            self.heap
+                .peek()
+                .map_or(self.cap, |e| e.0.error.min(self.cap))
+        } else {
+            self.cap
+        }
+    }
+
+    fn set(&mut self, slot: usize, i: usize) {
+        self.picks[slot] = i;
+        self.values[slot] = self.candidates[slot][i].ohms;
+    }
+
+    fn outer(&mut self, plain: &[usize], orders: &[Vec<usize>], depth: usize) {
+        if depth < plain.len() {
+            for &i in &orders[depth] {
+                self.set(plain[depth], i);
+                self.outer(plain, orders, depth + 1);
             }
-            values[order.scan] = scan[i].ohms;
-            true
-        });
-        // Next outer assignment.
-        let mut d = 0;
-        loop {
-            if d == odometer.len() {
-                return heap;
-            }
-            odometer[d] += 1;
-            if odometer[d] < candidates[order.outer[d]].len() {
+            return;
+        }
+        self.emitter(0, 0.0);
+    }
+
+    /// Enumerates the emitter slots within the window the current bound allows, then runs the scans.
+    fn emitter(&mut self, depth: usize, sum: f64) {
+        let slots = &self.order.emitter;
+        if depth == slots.len() {
+            self.leaf();
+            return;
+        }
+        let slot = slots[depth];
+        let list = &self.candidates[slot];
+        let last = depth + 1 == slots.len();
+        let (lo, hi) = self.order.emitter_window(self.bound());
+        // The last emitter slot's window follows from the others' sum; earlier ones only need to leave room.
+        let (from, to) = if last {
+            (lo - sum, hi - sum)
+        } else {
+            (0.0, hi - sum)
+        };
+        let start = list.partition_point(|c| c.ohms.0 < from);
+        let mut i = start;
+        while i < list.len() && list[i].ohms.0 <= to {
+            self.set(slot, i);
+            self.emitter(depth + 1, sum + list[i].ohms.0);
+            // The bound only falls, so the window only narrows: stop once past its new top.
+            let (_, hi) = self.order.emitter_window(self.bound());
+            if list[i].ohms.0 > hi - sum {
                 break;
             }
-            odometer[d] = 0;
-            d += 1;
+            i += 1;
         }
+    }
+
+    /// With every outer slot set: the scan slot outward from its best value, and for each, the collector slot.
+    fn leaf(&mut self) {
+        let order = self.order;
+        let scan_set: &[usize] = if order.collector.is_some() {
+            &BIAS
+        } else {
+            &ALL
+        };
+        let neutral = Ohms(crate::notation::value::MIN_OHMS);
+        if let Some(c) = order.collector {
+            self.values[c] = neutral;
+        }
+        let scan_len = self.candidates[order.scan].len();
+        let best_scan = {
+            let (cands, model) = (self.candidates, self.model);
+            let values = &mut self.values;
+            let effort = &mut *self.effort;
+            valley(scan_len, scan_set, |i| {
+                values[order.scan] = cands[order.scan][i].ohms;
+                effort.evaluations += 1;
+                model.deviations(values)
+            })
+        };
+        scan_both_sides(best_scan, scan_len, &mut |i| {
+            self.set(order.scan, i);
+            self.effort.evaluations += 1;
+            let d = self.model.deviations(&self.values);
+            let b = largest(&d, scan_set);
+            if b >= self.bound() {
+                return false;
+            }
+            match order.collector {
+                None => self.consider(b),
+                Some(c) => {
+                    // |RC/RL − 1| alone must stay below the bound.
+                    let list = &self.candidates[c];
+                    let bound = self.bound();
+                    let (from, to) = match order.collector_target {
+                        Some(rl) if bound < 1.0 => {
+                            let lo = list.partition_point(|x| {
+                                x.ohms.0 < rl.0 * (1.0 - bound) * (1.0 - 1e-12)
+                            });
+                            let hi = list.partition_point(|x| {
+                                x.ohms.0 <= rl.0 * (1.0 + bound) * (1.0 + 1e-12)
+                            });
+                            (lo, hi)
+                        }
+                        _ => (0, list.len()),
+                    };
+                    if from < to {
+                        let best_c = {
+                            let (cands, model) = (self.candidates, self.model);
+                            let values = &mut self.values;
+                            let effort = &mut *self.effort;
+                            from + valley(to - from, &COLLECTOR, |j| {
+                                values[c] = cands[c][from + j].ohms;
+                                effort.evaluations += 1;
+                                model.deviations(values)
+                            })
+                        };
+                        scan_range(best_c, from, to, &mut |j| {
+                            self.set(c, j);
+                            self.effort.evaluations += 1;
+                            let e = largest(&self.model.deviations(&self.values), &ALL);
+                            if e >= self.bound() {
+                                return false;
+                            }
+                            self.consider(e);
+                            true
+                        });
+                    }
+                    self.values[c] = neutral;
+                }
+            }
+            true
+        });
+    }
+
+    fn consider(&mut self, error: f64) {
+        consider(
+            self.model,
+            self.candidates,
+            &self.picks,
+            &self.values,
+            error,
+            self.k,
+            self.stock,
+            &mut self.heap,
+            self.effort,
+        );
     }
 }
 
@@ -348,15 +548,20 @@ fn valley(n: usize, which: &[usize], mut dev: impl FnMut(usize) -> Deviations) -
 /// Visits `start`, then the indices to its right while `visit` returns true, then those to its left while
 /// `visit` returns true.
 fn scan_both_sides(start: usize, n: usize, visit: &mut dyn FnMut(usize) -> bool) {
+    scan_range(start, 0, n, visit)
+}
+
+/// [`scan_both_sides`] within `from..to`.
+fn scan_range(start: usize, from: usize, to: usize, visit: &mut dyn FnMut(usize) -> bool) {
     if !visit(start) {
         return;
     }
-    for i in start + 1..n {
+    for i in start + 1..to {
         if !visit(i) {
             break;
         }
     }
-    for i in (0..start).rev() {
+    for i in (from..start).rev() {
         if !visit(i) {
             break;
         }
@@ -469,6 +674,10 @@ mod tests {
                 outer: vec![1, 2],
                 scan: 0,
                 collector: Some(3),
+                emitter: vec![2],
+                emitter_ohms: VE_T / (IC_T * (BETA + 1.0) / BETA),
+                centre: ideal.iter().map(|&x| Ohms(x)).collect(),
+                collector_target: Some(Ohms(RL)),
             };
             let k = 1 + (case % 7);
             let (found, _) = best_variants(&Divider, &order, &lists, k, &stock);
