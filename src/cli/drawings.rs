@@ -1,13 +1,14 @@
-//! `--svg DIR` and `--html FILE`: the drawings and the build sheet written to files, each atomically (a
-//! temporary file in the same folder, then a rename), so a reader never sees half a file. Shared by every
-//! command that has built stages to show (check now; design and spread can flatten the same arguments).
+//! `--svg DIR` and `--html FILE`: the drawings and the build sheet written to files, each atomically
+//! through [`biasfit::save`] (a temporary file in the same folder, then a rename), so a reader never sees
+//! half a file. Shared by every command that has built stages to show (check now; design and spread can
+//! flatten the same arguments).
 
 use super::Failure;
 use biasfit::report::design::PickLine;
 use biasfit::report::html::{build_sheet, SheetStage};
 use biasfit::report::svg::{load_line_svg, schematic_svg};
+use biasfit::save::Saver;
 use clap::Args;
-use std::io::Write;
 use std::path::{Path, PathBuf};
 
 /// Where to write drawings and the build sheet.
@@ -59,35 +60,11 @@ pub fn stems(names: &[&str]) -> Vec<String> {
     taken
 }
 
-/// Writes `contents` to `path` through a temporary file in the same folder and a rename.
-pub fn write_atomic(path: &Path, contents: &str) -> Result<(), Failure> {
-    let fail = |what: &str, e: std::io::Error| {
-        Failure::Io(format!("{}: cannot {what}: {e}", path.display()))
-    };
-    let dir = match path.parent() {
-        Some(p) if !p.as_os_str().is_empty() => p.to_path_buf(),
-        _ => PathBuf::from("."),
-    };
-    let name = path
-        .file_name()
-        .ok_or_else(|| Failure::Io(format!("{}: not a file name", path.display())))?;
-    let tmp = dir.join(format!(
-        ".{}.{}.tmp",
-        name.to_string_lossy(),
-        std::process::id()
-    ));
-    let result = (|| {
-        let mut f = std::fs::File::create(&tmp).map_err(|e| fail("create a file beside it", e))?;
-        f.write_all(contents.as_bytes())
-            .and_then(|_| f.sync_all())
-            .map_err(|e| fail("write it", e))?;
-        drop(f);
-        std::fs::rename(&tmp, path).map_err(|e| fail("replace it", e))
-    })();
-    if result.is_err() {
-        let _ = std::fs::remove_file(&tmp);
-    }
-    result
+/// Writes `contents` to `path` atomically (see [`biasfit::save`]).
+fn write_atomic(path: &Path, contents: &str) -> Result<(), Failure> {
+    Saver::new()
+        .write(path, contents.as_bytes())
+        .map_err(|e| Failure::Io(e.to_string()))
 }
 
 impl DrawingArgs {
