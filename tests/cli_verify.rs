@@ -271,3 +271,15 @@ fn bad_input_is_refused_on_one_line() {
         assert!(stdout(&out).is_empty());
     }
 }
+
+#[test]
+fn readme_shows_real_verify_output() {
+    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let measured = "VB=1.84,VE=1.19,VC=5.2";
+    let out = stdout(&verify(measured, false));
+    let block = format!("$ biasfit verify {FILE} --use {BUILT} --measured {measured}\n{out}```");
+    assert!(
+        readme.contains(&block),
+        "README's verify output is stale; it is now:\n{out}"
+    );
+}
