@@ -84,6 +84,15 @@ fn svg_files_parse_as_xml_and_show_the_chosen_values() {
     for q in ["min beta (80)", "typical beta (150)", "max beta (260)"] {
         assert!(t.contains(q), "load line lacks {q}: {t}");
     }
+    // The renderers are pure: the same build draws the same files.
+    snapshot(
+        "tests/snapshots/line-driver-schematic.svg".as_ref(),
+        &std::fs::read_to_string(&schematic).unwrap(),
+    );
+    snapshot(
+        "tests/snapshots/line-driver-load-line.svg".as_ref(),
+        &std::fs::read_to_string(&load_line).unwrap(),
+    );
     // No temporary files are left behind.
     let left: Vec<_> = std::fs::read_dir(dir.join("drawings"))
         .unwrap()
