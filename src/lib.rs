@@ -14,6 +14,7 @@ pub mod optimise;
 pub mod order;
 pub mod report;
 pub mod save;
+pub mod spread;
 pub mod stage;
 pub mod stock;
 pub mod units;

@@ -9,6 +9,7 @@ mod drawings;
 mod fix;
 mod ideal;
 mod output;
+mod spread;
 mod stock;
 mod verify;
 
@@ -35,6 +36,8 @@ enum Command {
     Ideal(ideal::IdealArgs),
     /// Evaluate a stage built from given networks: the exact operating point and every check
     Check(check::CheckArgs),
+    /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
+    Spread(spread::SpreadArgs),
     /// Fill every slot of every stage from stock so the operating points land closest to their targets
     Design(design::DesignArgs),
     /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
@@ -86,6 +89,7 @@ pub fn main() -> ExitCode {
         Command::Fix(args) => fix::run(args, &mut out),
         Command::Ideal(args) => ideal::run(args, &mut out),
         Command::Check(args) => check::run(args, &mut out),
+        Command::Spread(args) => spread::run(args, &mut out),
         Command::Design(args) => design::run(args, &mut out),
         Command::Verify(args) => verify::run(args, &mut out),
     };

@@ -55,6 +55,14 @@ impl Out {
     }
 }
 
+/// Writes a file atomically: a temporary file in the same folder, then a rename over the target, so a reader
+/// never sees it half-written.
+pub fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> Result<(), Failure> {
+    biasfit::save::Saver::new()
+        .write(path, bytes)
+        .map_err(|e| Failure::Io(e.to_string()))
+}
+
 /// Prints warnings to stderr, each once, prefixed so they stand out from the report.
 pub fn warn_all(warnings: &[String]) {
     for w in warnings {

@@ -4,15 +4,17 @@
 //! The shapes are a single part; two in series or in parallel; and, with three parts, three in series, three
 //! in parallel, `a+(b|c)` and `a|(b+c)`. A network that needs two pieces of one part needs a quantity of at
 //! least two, and parts with none left are never used. Each shape is searched over the stock's values sorted
-//! once: the last member (or the precomputed pair) is bounded by binary search, so a window costs O(N log N)
-//! for pairs and O(N² log N) for triples plus the size of its answer, and the candidates are then checked
-//! with the very arithmetic of [`Network::ohms`], so the bounds only ever prune, never decide.
+//! once: the first members are looped over only while they can still reach the window, and the last member's
+//! range is found by binary search, so a window costs O(N log N) for pairs and O(N² log N) for triples plus
+//! the size of its answer. Every candidate is then checked with the very arithmetic of [`Network::ohms`], so
+//! the bounds (widened by a slack far above their rounding error) only ever prune, never decide.
 //!
-//! Networks whose resistances agree within [`SAME_VALUE`] (1 ppm) are one value: sorted by resistance, a run
-//! of values each within 1 ppm of the one before keeps a single network, the one with fewer parts, then the
-//! tighter worst-case band, then more pieces left of its scarcest part, then the earlier shape (single,
-//! series pair, parallel pair, series triple, parallel triple, `a+(b|c)`, `a|(b+c)`), then the lower part
-//! ids in member order. Members are written dominant part first: series largest first, parallel smallest
+//! Networks whose resistances agree within [`SAME_VALUE`] (1 ppm of the smaller) are one value, and only one
+//! of them is offered. Networks are taken in order of preference: fewer parts, then the tighter worst-case
+//! band, then more pieces left of the scarcest part, then the earlier shape (single, series pair, parallel
+//! pair, series triple, parallel triple, `a+(b|c)`, `a|(b+c)`), then the lower part ids in member order; each
+//! is kept unless a network already kept lies within 1 ppm. No two kept networks are within 1 ppm, and every
+//! dropped network has a preferred one kept within 1 ppm, so no value is left unrepresented. Members are written dominant part first: series largest first, parallel smallest
 //! first, `a+(b|c)` and `a|(b+c)` with the lone part first.
 //!
 //! It relies on [`crate::stock::Stock`] for the parts and on [`Network`] for what a network is.
@@ -43,6 +45,11 @@ pub struct Candidate {
     pub band: (f64, f64),
     /// Pieces left of its scarcest part once it is built.
     pub left: u32,
+}
+
+/// Whether two values, `low` ≤ `high`, are the same value: within [`SAME_VALUE`] of the smaller.
+fn close(low: f64, high: f64) -> bool {
+    high - low <= SAME_VALUE * low
 }
 
 impl Candidate {
@@ -99,13 +106,6 @@ struct Entry {
     id: PartId,
 }
 
-/// A precomputed pair for the mixed triples: its value and its two entries in member order.
-#[derive(Clone, Copy, Debug)]
-struct Pair {
-    ohms: f64,
-    m: [u32; 2],
-}
-
 /// A network found in a window, before it becomes a [`Candidate`]: entries (not part ids) in member order.
 #[derive(Clone, Copy, Debug)]
 struct Raw {
@@ -124,8 +124,7 @@ struct Kept {
     left: u32,
 }
 
-/// A stock prepared for repeated candidate searches: its usable parts sorted by value and, for three-part
-/// networks, every parallel and series pair sorted by value.
+/// A stock prepared for repeated candidate searches: its usable parts sorted by value, in O(N log N).
 ///
 /// Build it once per stock and part limit when searching many windows (the optimiser does);
 /// [`in_window`] and [`best`] build one per call.
@@ -135,8 +134,37 @@ pub struct Index<'a> {
     max_parts: usize,
     entries: Vec<Entry>,
     values: Vec<f64>,
-    parallel_pairs: Vec<Pair>,
-    series_pairs: Vec<Pair>,
+}
+
+/// The indices of sorted `values` within [lo, hi], for bounds that only fall from one call to the next.
+struct Falling<'v> {
+    values: &'v [f64],
+    /// The first index with a value ≥ the last lower bound.
+    lo: usize,
+    /// The first index with a value > the last upper bound.
+    hi: usize,
+}
+
+impl<'v> Falling<'v> {
+    fn new(values: &'v [f64]) -> Self {
+        Falling {
+            values,
+            lo: values.len(),
+            hi: values.len(),
+        }
+    }
+
+    /// A bound that rises by a rounding error instead of falling is harmless: the slack already puts the
+    /// true bound inside the previous one, and the exact check decides.
+    fn between(&mut self, lo: f64, hi: f64) -> std::ops::Range<usize> {
+        while self.hi > 0 && self.values[self.hi - 1] > hi {
+            self.hi -= 1;
+        }
+        while self.lo > 0 && self.values[self.lo - 1] >= lo {
+            self.lo -= 1;
+        }
+        self.lo..self.hi.max(self.lo)
+    }
 }
 
 /// Slack added to every pruning bound, far above the rounding error of the bound's few operations; the
@@ -161,40 +189,12 @@ impl<'a> Index<'a> {
             .collect();
         entries.sort_by(|a, b| a.ohms.total_cmp(&b.ohms).then(a.id.cmp(&b.id)));
         let values = entries.iter().map(|e| e.ohms).collect();
-        let mut index = Index {
+        Index {
             stock,
             max_parts,
             entries,
             values,
-            parallel_pairs: Vec::new(),
-            series_pairs: Vec::new(),
-        };
-        if max_parts == 3 {
-            let n = index.entries.len();
-            let mut par = Vec::with_capacity(n * (n + 1) / 2);
-            let mut ser = Vec::with_capacity(n * (n + 1) / 2);
-            for i in 0..n {
-                for j in i..n {
-                    if i == j && index.entries[i].qty < 2 {
-                        continue;
-                    }
-                    let (a, b) = (index.values[i], index.values[j]);
-                    par.push(Pair {
-                        ohms: Shape::Parallel2.eval([a, b, 0.0]),
-                        m: [i as u32, j as u32],
-                    });
-                    ser.push(Pair {
-                        ohms: Shape::Series2.eval([b, a, 0.0]),
-                        m: [j as u32, i as u32],
-                    });
-                }
-            }
-            par.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-            ser.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-            index.parallel_pairs = par;
-            index.series_pairs = ser;
         }
-        index
     }
 
     /// How many stock parts (with pieces on hand) the search draws on.
@@ -204,9 +204,7 @@ impl<'a> Index<'a> {
 
     /// Every distinct network with a resistance in [low, high], deduplicated, sorted by ohms ascending.
     pub fn in_window(&self, low: Ohms, high: Ohms) -> Vec<Candidate> {
-        let mut raws = Vec::new();
-        self.collect(low.0, high.0, &mut raws);
-        self.dedupe(raws)
+        self.kept_in(low.0, high.0)
             .into_iter()
             .map(|k| self.candidate(&k))
             .collect()
@@ -215,8 +213,12 @@ impl<'a> Index<'a> {
     /// The `k` best networks for `target`, ranked by |relative error|; ties go to fewer parts, then the
     /// tighter band, then more pieces left, then the shape order and part ids.
     ///
-    /// Networks are deduplicated over the whole stock, not just the ones shown: the search widens its window
-    /// until it holds `k` values and no run of 1-ppm neighbours crosses the window's edge.
+    /// The networks ranked are those of the window target × (1 ± ρ), deduplicated as in
+    /// [`Index::in_window`], for the first ρ of 1 ppm, 4 ppm, 16 ppm, … whose window keeps `k` of them (or
+    /// holds every network). Nothing outside a window can rank above what is inside it, and a network
+    /// dropped as a duplicate always has a preferred one kept within 1 ppm, so the first answer is the
+    /// closest network there is, or one within 1 ppm of it with fewer parts (or a tighter band, or more
+    /// stock left).
     pub fn best(&self, target: Ohms, k: usize) -> Vec<Candidate> {
         let t = target.0;
         if k == 0 || self.entries.is_empty() || !(t.is_finite() && t > 0.0) {
@@ -224,23 +226,12 @@ impl<'a> Index<'a> {
         }
         // No network exceeds max_parts times the largest value (all in series).
         let ceiling = self.values[self.values.len() - 1] * self.max_parts as f64 * (1.0 + 1e-9);
-        let mut d = t * 1e-6;
+        let mut rho = 1e-6;
         loop {
-            let (low, high) = (t - d, t + d);
+            let (low, high) = (t * (1.0 - rho), t * (1.0 + rho));
             let everything = low <= 0.0 && high >= ceiling;
-            let mut raws = Vec::new();
-            self.collect(low, high, &mut raws);
-            let lowest = raws.iter().map(|r| r.ohms).fold(f64::INFINITY, f64::min);
-            let highest = raws.iter().map(|r| r.ohms).fold(0.0, f64::max);
-            // A run of 1-ppm neighbours could continue past an edge only if a value sits within 1 ppm of it.
-            let edges_clear = (low <= 0.0 || lowest > low * (1.0 + SAME_VALUE))
-                && highest * (1.0 + SAME_VALUE) < high;
-            let kept = if everything || edges_clear {
-                self.dedupe(raws)
-            } else {
-                Vec::new()
-            };
-            if everything || (edges_clear && kept.len() >= k) {
+            let kept = self.kept_in(low, high);
+            if everything || kept.len() >= k {
                 let mut ranked: Vec<(f64, Kept)> = kept
                     .into_iter()
                     .map(|c| (((c.raw.ohms - t) / t).abs(), c))
@@ -252,7 +243,7 @@ impl<'a> Index<'a> {
                     .map(|(_, c)| self.candidate(&c))
                     .collect();
             }
-            d *= 4.0;
+            rho *= 4.0;
         }
     }
 
@@ -301,12 +292,6 @@ impl<'a> Index<'a> {
         self.value_range(from, lo * (1.0 - SLACK), hi * (1.0 + SLACK))
     }
 
-    fn pair_range(pairs: &[Pair], lo: f64, hi: f64) -> &[Pair] {
-        let start = pairs.partition_point(|p| p.ohms < lo);
-        let end = pairs.partition_point(|p| p.ohms <= hi).max(start);
-        &pairs[start..end]
-    }
-
     /// Every network (not yet deduplicated) with a value in [low, high].
     fn collect(&self, low: f64, high: f64, out: &mut Vec<Raw>) {
         let n = self.entries.len();
@@ -325,14 +310,19 @@ impl<'a> Index<'a> {
         if self.max_parts < 2 {
             return;
         }
+        // Pairs, a ≤ b: as a grows, b's bounds only fall, so two pointers walk down instead of a binary search
+        // per a (the pair search is the one that must take microseconds).
+        let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
             if a + a > high {
                 break;
             }
-            for j in self.value_range(i, low - a - slack, high - a + slack) {
+            let js = range.between(low - a - slack, high - a + slack);
+            for j in js.start.max(i)..js.end {
                 self.emit(Shape::Series2, [j as u32, i as u32, 0], low, high, out);
             }
         }
+        let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
             if Shape::Parallel2.eval([a, a, 0.0]) > high {
                 break;
@@ -340,7 +330,17 @@ impl<'a> Index<'a> {
             let delta = SLACK * (inv_high + 1.0 / a + if low > 0.0 { inv_low } else { 0.0 });
             let g_lo = inv_high - 1.0 / a - delta;
             let g_hi = inv_low - 1.0 / a + delta;
-            for j in self.conductance_range(i, g_lo, g_hi) {
+            if g_hi <= 0.0 {
+                continue;
+            }
+            let lo = 1.0 / g_hi * (1.0 - SLACK);
+            let hi = if g_lo > 0.0 {
+                1.0 / g_lo * (1.0 + SLACK)
+            } else {
+                f64::INFINITY
+            };
+            let js = range.between(lo, hi);
+            for j in js.start.max(i)..js.end {
                 self.emit(Shape::Parallel2, [i as u32, j as u32, 0], low, high, out);
             }
         }
@@ -372,7 +372,18 @@ impl<'a> Index<'a> {
             if Shape::Parallel3.eval([a, a, a]) > high {
                 break;
             }
-            for (j, &b) in v.iter().enumerate().skip(i) {
+            // a | b must reach low: 1/b ≤ 1/low − 1/a (widened by an absolute slack, as the difference
+            // cancels when a is close to low).
+            let first = if low > 0.0 {
+                let g = inv_low - 1.0 / a + SLACK * (inv_low + 1.0 / a);
+                if g <= 0.0 {
+                    continue;
+                }
+                v.partition_point(|&b| b < 1.0 / g).max(i)
+            } else {
+                i
+            };
+            for (j, &b) in v.iter().enumerate().skip(first) {
                 if Shape::Parallel3.eval([a, b, b]) > high {
                     break;
                 }
@@ -394,33 +405,72 @@ impl<'a> Index<'a> {
                 }
             }
         }
-        // a+(b|c): the pair's value lies in [low − a, high − a].
+        // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
             if a > high {
                 break;
             }
-            for p in Self::pair_range(&self.parallel_pairs, low - a - slack, high - a + slack) {
-                let m = [x as u32, p.m[0], p.m[1]];
-                self.emit(Shape::SeriesOfParallel, m, low, high, out);
+            let p_lo = low - a - slack;
+            let p_hi = high - a + slack;
+            let first = v.partition_point(|&b| b < p_lo * (1.0 - SLACK));
+            for (i, &b) in v.iter().enumerate().skip(first) {
+                if a + Shape::Parallel2.eval([b, b, 0.0]) > high {
+                    break;
+                }
+                let delta =
+                    SLACK * (1.0 / p_hi + 1.0 / b + if p_lo > 0.0 { 1.0 / p_lo } else { 0.0 });
+                let g_lo = 1.0 / p_hi - 1.0 / b - delta;
+                let g_hi = if p_lo > 0.0 {
+                    1.0 / p_lo - 1.0 / b + delta
+                } else {
+                    f64::INFINITY
+                };
+                for j in self.conductance_range(i, g_lo, g_hi) {
+                    self.emit(
+                        Shape::SeriesOfParallel,
+                        [x as u32, i as u32, j as u32],
+                        low,
+                        high,
+                        out,
+                    );
+                }
             }
         }
-        // a|(b+c): the pair's conductance lies in [1/high − 1/a, 1/low − 1/a].
+        // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {
+            if a < low * (1.0 - SLACK) {
+                continue;
+            }
             let delta = SLACK * (inv_high + 1.0 / a + if low > 0.0 { inv_low } else { 0.0 });
             let g_lo = inv_high - 1.0 / a - delta;
             let g_hi = inv_low - 1.0 / a + delta;
             if g_hi <= 0.0 {
                 continue;
             }
-            let lo = 1.0 / g_hi;
-            let hi = if g_lo > 0.0 {
-                1.0 / g_lo
+            let s_lo = 1.0 / g_hi * (1.0 - SLACK);
+            let s_hi = if g_lo > 0.0 {
+                1.0 / g_lo * (1.0 + SLACK)
             } else {
                 f64::INFINITY
             };
-            for p in Self::pair_range(&self.series_pairs, lo * (1.0 - SLACK), hi * (1.0 + SLACK)) {
-                let m = [x as u32, p.m[0], p.m[1]];
-                self.emit(Shape::ParallelOfSeries, m, low, high, out);
+            let first = v.partition_point(|&b| b < s_lo / 2.0 * (1.0 - SLACK));
+            for (j, &b) in v.iter().enumerate().skip(first) {
+                if b > s_hi {
+                    break;
+                }
+                let pad = SLACK * (s_lo + b);
+                for i in self.value_range(0, s_lo - b - pad, s_hi - b + pad) {
+                    if i > j {
+                        break;
+                    }
+                    self.emit(
+                        Shape::ParallelOfSeries,
+                        [x as u32, j as u32, i as u32],
+                        low,
+                        high,
+                        out,
+                    );
+                }
             }
         }
     }
@@ -477,23 +527,52 @@ impl<'a> Index<'a> {
             .then_with(|| ids(a).cmp(&ids(b)))
     }
 
-    /// Sorts by value and keeps one network per run of 1-ppm neighbours.
-    fn dedupe(&self, mut raws: Vec<Raw>) -> Vec<Kept> {
+    /// The networks with a value in [low, high], deduplicated, sorted by value.
+    ///
+    /// Deduplication is greedy in order of preference: a network is kept unless an already kept one lies
+    /// within 1 ppm. So no two kept networks are within 1 ppm of each other, and every dropped one has a
+    /// preferred network kept within 1 ppm of it. Networks only interact within a run of 1-ppm neighbours,
+    /// so each run is settled on its own.
+    fn kept_in(&self, low: f64, high: f64) -> Vec<Kept> {
+        let mut raws = Vec::new();
+        self.collect(low, high, &mut raws);
         raws.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-        let mut out: Vec<Kept> = Vec::new();
-        let mut prev = f64::NAN;
-        for raw in raws {
-            let k = self.keep(raw);
-            let joins = raw.ohms - prev <= SAME_VALUE * prev;
-            prev = raw.ohms;
-            match out.last_mut() {
-                Some(last) if joins => {
-                    if self.prefer(&k, last) == Ordering::Less {
-                        *last = k;
+        let all: Vec<Kept> = raws.into_iter().map(|r| self.keep(r)).collect();
+        let mut out = Vec::with_capacity(all.len());
+        let mut start = 0;
+        while start < all.len() {
+            let mut end = start + 1;
+            while end < all.len() && close(all[end - 1].raw.ohms, all[end].raw.ohms) {
+                end += 1;
+            }
+            let run = &all[start..end];
+            if run.len() == 1 {
+                out.push(run[0]);
+            } else {
+                let mut order: Vec<&Kept> = run.iter().collect();
+                order.sort_by(|a, b| self.prefer(a, b));
+                // Kept values by their bits: positive floats order like their bit patterns.
+                let mut kept = std::collections::BTreeMap::new();
+                for k in order {
+                    let x = k.raw.ohms;
+                    let bits = x.to_bits();
+                    let below = kept
+                        .range(..=bits)
+                        .next_back()
+                        .map(|(_, v): (_, &Kept)| v.raw.ohms);
+                    let above = kept
+                        .range(bits..)
+                        .next()
+                        .map(|(_, v): (_, &Kept)| v.raw.ohms);
+                    let taken =
+                        below.is_some_and(|b| close(b, x)) || above.is_some_and(|a| close(x, a));
+                    if !taken {
+                        kept.insert(bits, *k);
                     }
                 }
-                _ => out.push(k),
+                out.extend(kept.into_values());
             }
+            start = end;
         }
         out
     }
@@ -551,8 +630,8 @@ impl<'a> Index<'a> {
 }
 
 /// Every distinct network of at most `max_parts` (1..=3) stock parts whose resistance lies in [low, high],
-/// deduplicated (within 1 ppm keep fewer parts, then the tighter band, then more stock left), sorted by ohms
-/// ascending.
+/// deduplicated (of two within 1 ppm keep fewer parts, then the tighter band, then more stock left), sorted
+/// by ohms ascending.
 pub fn in_window(stock: &Stock, max_parts: usize, low: Ohms, high: Ohms) -> Vec<Candidate> {
     Index::new(stock, max_parts).in_window(low, high)
 }
@@ -561,4 +640,579 @@ pub fn in_window(stock: &Stock, max_parts: usize, low: Ohms, high: Ohms) -> Vec<
 /// go to fewer parts, then the tighter band, then more pieces left in stock.
 pub fn best(stock: &Stock, target: Ohms, max_parts: usize, k: usize) -> Vec<Candidate> {
     Index::new(stock, max_parts).best(target, k)
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::stock::Part;
+    use crate::units::{Tolerance, Watts};
+
+    /// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number generators", OOPSLA 2014):
+    /// a tiny, fixed-seed generator so the random stocks are the same on every run.
+    struct SplitMix64(u64);
+
+    impl SplitMix64 {
+        fn next(&mut self) -> u64 {
+            self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+            let mut z = self.0;
+            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+            z ^ (z >> 31)
+        }
+        /// Uniform in [0, 1).
+        fn unit(&mut self) -> f64 {
+            (self.next() >> 11) as f64 / (1u64 << 53) as f64
+        }
+        fn below(&mut self, n: usize) -> usize {
+            (self.next() % n as u64) as usize
+        }
+    }
+
+    fn part(ohms: f64, tol: f64, qty: u32, location: &str) -> Part {
+        Part {
+            ohms: Ohms(ohms),
+            tolerance: Tolerance(tol),
+            power: Watts(0.25),
+            qty,
+            locations: vec![location.to_string()],
+            notes: Vec::new(),
+            lines: Vec::new(),
+        }
+    }
+
+    /// A random stock: E12 values over five decades (so that sums and parallels coincide, as 1k + 1k = 2k
+    /// or 2k2 | 2k2 = 1k1 do) mixed with arbitrary values, quantities 0 to 3, and some values stocked twice
+    /// at different tolerances.
+    fn random_stock(rng: &mut SplitMix64, n: usize) -> Stock {
+        const E12: [f64; 12] = [1.0, 1.2, 1.5, 1.8, 2.2, 2.7, 3.3, 3.9, 4.7, 5.6, 6.8, 8.2];
+        let tols = [0.01, 0.02, 0.05];
+        let mut parts: Vec<Part> = Vec::new();
+        for i in 0..n {
+            let ohms = if rng.unit() < 0.7 {
+                E12[rng.below(12)] * [10.0, 100.0, 1000.0, 10_000.0, 100_000.0][rng.below(5)]
+            } else {
+                10.0 * 10f64.powf(5.0 * rng.unit())
+            };
+            let ohms = if i > 0 && rng.unit() < 0.15 {
+                parts[rng.below(parts.len())].ohms.0
+            } else {
+                ohms
+            };
+            let qty = rng.below(4) as u32;
+            parts.push(part(ohms, tols[rng.below(3)], qty, &format!("bin {i}")));
+        }
+        Stock::from_parts("random", parts)
+    }
+
+    /// A network found by brute force, with everything the ranking rules look at.
+    #[derive(Clone)]
+    struct Naive {
+        network: Network,
+        ohms: f64,
+        parts: usize,
+        tol_key: i64,
+        left: u32,
+        shape: u8,
+        ids: Vec<PartId>,
+    }
+
+    /// Every network of up to `max_parts` parts, by brute force: each shape over every choice of parts, the
+    /// members written in the documented order, and the quantities checked afterwards.
+    fn naive_all(stock: &Stock, max_parts: usize) -> Vec<Naive> {
+        let mut usable: Vec<PartId> = (0..stock.parts.len())
+            .filter(|&i| stock.parts[i].qty > 0)
+            .collect();
+        usable.sort_by(|&a, &b| {
+            (stock.parts[a].ohms.0, a)
+                .partial_cmp(&(stock.parts[b].ohms.0, b))
+                .unwrap()
+        });
+        let leaf = |id: PartId| {
+            let p = &stock.parts[id];
+            Network::Single(Member {
+                ohms: p.ohms,
+                tolerance: p.tolerance,
+                power: p.power,
+                location: p.location(),
+                part: Some(id),
+            })
+        };
+        let mut out = Vec::new();
+        let mut push = |shape: u8, network: Network| {
+            let ids: Vec<PartId> = network.members().iter().map(|m| m.part.unwrap()).collect();
+            let used = |id: PartId| ids.iter().filter(|&&x| x == id).count() as u32;
+            if ids.iter().any(|&id| used(id) > stock.parts[id].qty) {
+                return;
+            }
+            let (lo, hi) = network.band();
+            out.push(Naive {
+                ohms: network.ohms().0,
+                parts: ids.len(),
+                tol_key: ((-lo).max(hi) * 1e9).round() as i64,
+                left: ids
+                    .iter()
+                    .map(|&id| stock.parts[id].qty - used(id))
+                    .min()
+                    .unwrap(),
+                shape,
+                ids,
+                network,
+            });
+        };
+        let u = &usable;
+        let n = u.len();
+        for &a in u {
+            push(0, leaf(a));
+        }
+        if max_parts >= 2 {
+            for a in 0..n {
+                for b in a..n {
+                    push(1, Network::Series(vec![leaf(u[b]), leaf(u[a])]));
+                    push(2, Network::Parallel(vec![leaf(u[a]), leaf(u[b])]));
+                }
+            }
+        }
+        if max_parts >= 3 {
+            for a in 0..n {
+                for b in a..n {
+                    for c in b..n {
+                        push(3, Network::Series(vec![leaf(u[c]), leaf(u[b]), leaf(u[a])]));
+                        push(
+                            4,
+                            Network::Parallel(vec![leaf(u[a]), leaf(u[b]), leaf(u[c])]),
+                        );
+                    }
+                }
+            }
+            for x in 0..n {
+                for b in 0..n {
+                    for c in b..n {
+                        push(
+                            5,
+                            Network::Series(vec![
+                                leaf(u[x]),
+                                Network::Parallel(vec![leaf(u[b]), leaf(u[c])]),
+                            ]),
+                        );
+                        push(
+                            6,
+                            Network::Parallel(vec![
+                                leaf(u[x]),
+                                Network::Series(vec![leaf(u[c]), leaf(u[b])]),
+                            ]),
+                        );
+                    }
+                }
+            }
+        }
+        out
+    }
+
+    fn naive_prefer(a: &Naive, b: &Naive) -> Ordering {
+        (a.parts, a.tol_key, Reverse(a.left), a.shape, &a.ids).cmp(&(
+            b.parts,
+            b.tol_key,
+            Reverse(b.left),
+            b.shape,
+            &b.ids,
+        ))
+    }
+
+    /// The deduplication rule as the module documents it: in order of preference, keep each network unless
+    /// a kept one lies within 1 ppm of the smaller of the two. Returned by value.
+    fn naive_dedupe(mut set: Vec<Naive>) -> Vec<Naive> {
+        set.sort_by(naive_prefer);
+        let mut kept: Vec<Naive> = Vec::new();
+        for c in set {
+            let near = |k: &Naive| {
+                let (lo, hi) = (c.ohms.min(k.ohms), c.ohms.max(k.ohms));
+                hi - lo <= 1e-6 * lo
+            };
+            if !kept.iter().any(near) {
+                kept.push(c);
+            }
+        }
+        kept.sort_by(|a, b| a.ohms.partial_cmp(&b.ohms).unwrap());
+        kept
+    }
+
+    fn naive_window(all: &[Naive], low: f64, high: f64) -> Vec<Naive> {
+        let inside = all
+            .iter()
+            .filter(|c| c.ohms >= low && c.ohms <= high)
+            .map(Naive::clone)
+            .collect();
+        naive_dedupe(inside)
+    }
+
+    /// The documented search for the best: windows of ±1 ppm, ±4 ppm, … until one keeps k networks.
+    fn naive_best(stock: &Stock, target: f64, max_parts: usize, k: usize) -> Vec<Naive> {
+        let all = naive_all(stock, max_parts);
+        let err = |c: &Naive| ((c.ohms - target) / target).abs();
+        let mut rho = 1e-6;
+        loop {
+            let mut found = naive_window(&all, target * (1.0 - rho), target * (1.0 + rho));
+            if found.len() >= k || all.iter().all(|c| err(c) <= rho) {
+                found.sort_by(|a, b| {
+                    err(a)
+                        .partial_cmp(&err(b))
+                        .unwrap()
+                        .then_with(|| naive_prefer(a, b))
+                });
+                found.truncate(k);
+                return found;
+            }
+            rho *= 4.0;
+        }
+    }
+
+    fn assert_same(fast: &[Candidate], naive: &[Naive], what: &str) {
+        let show = |v: &[Candidate]| v.iter().map(|c| c.network.notation()).collect::<Vec<_>>();
+        let show_naive = |v: &[Naive]| v.iter().map(|c| c.network.notation()).collect::<Vec<_>>();
+        assert_eq!(
+            fast.len(),
+            naive.len(),
+            "{what}: {:?} vs {:?}",
+            show(fast),
+            show_naive(naive)
+        );
+        for (f, n) in fast.iter().zip(naive) {
+            assert_eq!(f.network, n.network, "{what}");
+            assert_eq!(f.ohms.0.to_bits(), n.ohms.to_bits(), "{what}");
+            assert_eq!(f.parts, n.parts, "{what}");
+            assert_eq!(f.left, n.left, "{what}");
+        }
+    }
+
+    #[test]
+    fn windows_equal_exhaustive_enumeration_on_random_stocks() {
+        let mut rng = SplitMix64(0x5EED_0001);
+        for round in 0..40 {
+            let n = 6 + rng.below(9);
+            let stock = random_stock(&mut rng, n);
+            let max_parts = 1 + round % 3;
+            let index = Index::new(&stock, max_parts);
+            let all = naive_all(&stock, max_parts);
+            let pairs: Vec<f64> = all
+                .iter()
+                .filter(|c| c.shape == 2)
+                .map(|c| c.ohms)
+                .collect();
+            for w in 0..16 {
+                let (low, high) = if w >= 12 && !pairs.is_empty() {
+                    // Just below a parallel pair's value, where a third part far larger than the two only
+                    // nudges the value down: the pruning bounds are tightest here.
+                    let a = pairs[rng.below(pairs.len())];
+                    (a * (1.0 - 10f64.powf(-6.0 + 4.3 * rng.unit())), a)
+                } else if w < 8 {
+                    // A random window, from a hair wide to a factor of 3.
+                    let centre = 3.0 * 10f64.powf(6.5 * rng.unit());
+                    let ratio = 1.0 + 2.0 * rng.unit().powi(3);
+                    (centre / ratio.sqrt(), centre * ratio.sqrt())
+                } else if w < 11 && !all.is_empty() {
+                    // Edges exactly on network values: both ends are inclusive.
+                    let a = all[rng.below(all.len())].ohms;
+                    let b = all[rng.below(all.len())].ohms;
+                    (a.min(b), a.max(b))
+                } else {
+                    (0.0, 1e12)
+                };
+                let fast = index.in_window(Ohms(low), Ohms(high));
+                let naive = naive_window(&all, low, high);
+                assert_same(
+                    &fast,
+                    &naive,
+                    &format!("round {round} window {low}..{high}"),
+                );
+                assert!(fast.windows(2).all(|p| p[0].ohms.0 < p[1].ohms.0));
+            }
+        }
+    }
+
+    #[test]
+    fn best_equals_exhaustive_ranking_on_random_stocks() {
+        let mut rng = SplitMix64(0x5EED_0002);
+        for round in 0..40 {
+            let n = 5 + rng.below(10);
+            let stock = random_stock(&mut rng, n);
+            let max_parts = 1 + round % 3;
+            let index = Index::new(&stock, max_parts);
+            for _ in 0..6 {
+                let target = 2.0 * 10f64.powf(6.5 * rng.unit());
+                let k = 1 + rng.below(8);
+                let fast = index.best(Ohms(target), k);
+                let naive = naive_best(&stock, target, max_parts, k);
+                assert_same(
+                    &fast,
+                    &naive,
+                    &format!("round {round} target {target} k {k}"),
+                );
+                assert_eq!(best(&stock, Ohms(target), max_parts, k), fast);
+            }
+        }
+    }
+
+    #[test]
+    fn candidates_are_exactly_their_networks() {
+        // The search computes values and bands itself; they must be the network's own, bit for bit.
+        let mut rng = SplitMix64(0x5EED_0003);
+        let stock = random_stock(&mut rng, 14);
+        for c in in_window(&stock, 3, Ohms(0.0), Ohms(1e12)) {
+            assert_eq!(c.network.ohms().0.to_bits(), c.ohms.0.to_bits());
+            assert_eq!(c.network.band(), c.band);
+            assert_eq!(c.network.part_count(), c.parts);
+            let mut ids: Vec<PartId> = c
+                .network
+                .members()
+                .iter()
+                .map(|m| m.part.unwrap())
+                .collect();
+            ids.sort_unstable();
+            let counted: u32 = c.uses.iter().map(|u| u.1).sum();
+            assert_eq!(counted as usize, c.parts);
+            assert!(c.uses.windows(2).all(|w| w[0].0 < w[1].0));
+            for (id, n) in &c.uses {
+                assert_eq!(ids.iter().filter(|x| *x == id).count() as u32, *n);
+                assert!(*n <= stock.parts[*id].qty);
+            }
+            for m in c.network.members() {
+                let p = &stock.parts[m.part.unwrap()];
+                assert_eq!(m.location, p.location());
+                assert_eq!(
+                    (m.ohms, m.tolerance, m.power),
+                    (p.ohms, p.tolerance, p.power)
+                );
+            }
+        }
+    }
+
+    #[test]
+    fn counts_every_network_once() {
+        // With n values in generic position (no two networks coincide) and three of each, the search finds
+        // n singles, 2·C(n+1, 2) pairs and 2·C(n+2, 3) + 2·n·C(n+1, 2) triples (combinations with
+        // repetition: C(n+1, 2) unordered pairs, C(n+2, 3) unordered triples).
+        // These nine values have no two networks within 5 ppm of each other (checked when the test was
+        // written), so deduplication at 1 ppm removes nothing.
+        let n = 9usize;
+        let parts = (0..n)
+            .map(|i| {
+                let ohms = 100.0 * 1.7f64.powi(i as i32) * (1.0 + ((i + 2) as f64).sqrt() / 100.0);
+                part(ohms, 0.05, 3, "x")
+            })
+            .collect();
+        let stock = Stock::from_parts("generic", parts);
+        let c2 = n * (n + 1) / 2;
+        let c3 = n * (n + 1) * (n + 2) / 6;
+        let count = |p| in_window(&stock, p, Ohms(0.0), Ohms(1e9)).len();
+        assert_eq!(count(1), n);
+        assert_eq!(count(2), n + 2 * c2);
+        assert_eq!(count(3), n + 2 * c2 + 2 * c3 + 2 * n * c2);
+    }
+
+    #[test]
+    fn series_parallel_and_mixed_by_hand() {
+        let stock = Stock::from_parts(
+            "hand",
+            vec![
+                part(10e3, 0.05, 5, "D9"),
+                part(4700.0, 0.01, 5, "C8"),
+                part(2200.0, 0.05, 5, "C2"),
+                part(1000.0, 0.05, 5, "C7"),
+            ],
+        );
+        let at = |parts, ohms: f64| {
+            in_window(
+                &stock,
+                parts,
+                Ohms(ohms * (1.0 - 1e-9)),
+                Ohms(ohms * (1.0 + 1e-9)),
+            )
+            .into_iter()
+            .map(|c| c.network.notation())
+            .collect::<Vec<_>>()
+        };
+        // 10k + 4k7 = 14k7; 4k7 | 4k7 = 2350 Ω; 10k | 2k2 = 22e6 / 12.2e3 = 1803.28 Ω.
+        assert_eq!(at(2, 14_700.0), ["10k+4k7"]);
+        assert_eq!(at(2, 2350.0), ["4k7|4k7"]);
+        assert_eq!(at(2, 22e6 / 12_200.0), ["2k2|10k"]);
+        // 1k + (2k2 | 2k2) = 2100 Ω; 1k | (10k + 4k7) = 14.7e6 / 15.7e3 = 936.31 Ω; 1k+1k+1k = 3k;
+        // 1k | 1k | 1k = 333.33 Ω.
+        assert_eq!(at(3, 2100.0), ["1k+(2k2|2k2)"]);
+        assert_eq!(at(3, 14.7e6 / 15_700.0), ["1k|(10k+4k7)"]);
+        assert_eq!(at(3, 3000.0), ["1k+1k+1k"]);
+        assert_eq!(at(3, 1000.0 / 3.0), ["1k|1k|1k"]);
+        // 2k2 + 1k + 1k = 4k2, and 2k2 | 2k2 = 1k1 from a pair: the window is exact.
+        assert_eq!(at(3, 4200.0), ["2k2+1k+1k"]);
+    }
+
+    #[test]
+    fn band_of_a_network_by_hand() {
+        let stock = Stock::from_parts(
+            "band",
+            vec![
+                part(10e3, 0.01, 1, "a"),
+                part(4700.0, 0.05, 1, "b"),
+                part(1000.0, 0.01, 1, "c"),
+                part(1000.0, 0.05, 1, "d"),
+            ],
+        );
+        let only = |parts, ohms: f64| {
+            let found = in_window(
+                &stock,
+                parts,
+                Ohms(ohms * (1.0 - 1e-9)),
+                Ohms(ohms * (1.0 + 1e-9)),
+            );
+            assert_eq!(found.len(), 1, "{ohms}");
+            found.into_iter().next().unwrap()
+        };
+        // 10k 1 % + 4k7 5 %: low 9900 + 4465 = 14365, high 10100 + 4935 = 15035, nominal 14700:
+        // -2.279 % / +2.279 %.
+        let c = only(2, 14_700.0);
+        assert!((c.band.0 - (14_365.0 / 14_700.0 - 1.0)).abs() < 1e-12);
+        assert!((c.band.1 - (15_035.0 / 14_700.0 - 1.0)).abs() < 1e-12);
+        // 1k 1 % | 1k 5 %: low 990 | 950 = 940500 / 1940 = 484.794, high 1010 | 1050 = 1060500 / 2060 =
+        // 514.806, nominal 500: -3.041 % / +2.961 %.
+        let c = only(2, 500.0);
+        assert!((c.band.0 - (940_500.0 / 1940.0 / 500.0 - 1.0)).abs() < 1e-12);
+        assert!((c.band.1 - (1_060_500.0 / 2060.0 / 500.0 - 1.0)).abs() < 1e-12);
+    }
+
+    #[test]
+    fn quantities_are_honoured() {
+        let stock = |qty| Stock::from_parts("qty", vec![part(1000.0, 0.05, qty, "C7")]);
+        let values = |s: &Stock| {
+            in_window(s, 3, Ohms(0.0), Ohms(1e9))
+                .into_iter()
+                .map(|c| c.ohms.0)
+                .collect::<Vec<_>>()
+        };
+        // One piece: just the 1k. Two: also 1k + 1k and 1k | 1k. Three: also the triples, 3k, 333.3 Ω,
+        // 1k + (1k | 1k) = 1k5 and 1k | (1k + 1k) = 666.7 Ω.
+        assert_eq!(values(&stock(0)), Vec::<f64>::new());
+        assert_eq!(values(&stock(1)), [1000.0]);
+        assert_eq!(values(&stock(2)), [500.0, 1000.0, 2000.0]);
+        let three = values(&stock(3));
+        assert_eq!(three.len(), 7);
+        for want in [
+            1000.0 / 3.0,
+            500.0,
+            2000.0 / 3.0,
+            1000.0,
+            1500.0,
+            2000.0,
+            3000.0,
+        ] {
+            assert!(three.iter().any(|v| (v - want).abs() < 1e-9), "{want}");
+        }
+        // best() never draws on an empty bin: 2k2 | 2k2 = 1k1 exactly, but 2k2 has none left.
+        let s = Stock::from_parts(
+            "empty bin",
+            vec![part(2200.0, 0.05, 0, "C2"), part(1000.0, 0.05, 1, "C7")],
+        );
+        let b = best(&s, Ohms(1100.0), 3, 5);
+        assert_eq!(b.len(), 1);
+        assert_eq!(b[0].network.notation(), "1k");
+        // Two pieces of one part, not two parts: a pair needs qty ≥ 2 of the same part.
+        let s = Stock::from_parts(
+            "one each",
+            vec![part(2200.0, 0.05, 1, "C2"), part(2200.0, 0.01, 1, "C3")],
+        );
+        let b = best(&s, Ohms(1100.0), 2, 1);
+        assert_eq!(b[0].uses, vec![(0, 1), (1, 1)]);
+        assert_eq!(b[0].left, 0);
+    }
+
+    #[test]
+    fn duplicates_keep_fewer_parts_then_tighter_band_then_more_stock() {
+        // 1k + 1k = 2k exactly: the single 2k wins on parts.
+        let s = Stock::from_parts(
+            "dups",
+            vec![part(1000.0, 0.01, 4, "C7"), part(2000.0, 0.05, 1, "C9")],
+        );
+        let w = in_window(&s, 2, Ohms(1999.0), Ohms(2001.0));
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].network.notation(), "2k");
+        // The same value at 5 % and 1 %: the 1 % part, though the 5 % bin is fuller.
+        let s = Stock::from_parts(
+            "dups",
+            vec![part(4700.0, 0.05, 9, "A"), part(4700.0, 0.01, 2, "C8")],
+        );
+        let w = in_window(&s, 1, Ohms(4000.0), Ohms(5000.0));
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].uses, vec![(1, 1)]);
+        // Equal tolerance: the fuller bin.
+        let s = Stock::from_parts(
+            "dups",
+            vec![part(4700.0, 0.05, 2, "A"), part(4700.0, 0.05, 9, "B")],
+        );
+        let w = in_window(&s, 1, Ohms(4000.0), Ohms(5000.0));
+        assert_eq!(w[0].uses, vec![(1, 1)]);
+        assert_eq!(w[0].left, 8);
+        // Within 1 ppm counts as the same value: 1 MΩ and 1 MΩ + 0.5 Ω are one; + 2 Ω are two.
+        let s = Stock::from_parts(
+            "ppm",
+            vec![
+                part(1e6, 0.05, 1, "A"),
+                part(1e6 + 0.5, 0.01, 1, "B"),
+                part(1e6 + 2.0, 0.01, 1, "C"),
+            ],
+        );
+        let w = in_window(&s, 1, Ohms(0.9e6), Ohms(1.1e6));
+        assert_eq!(w.len(), 2);
+        assert_eq!(w[0].uses, vec![(1, 1)]);
+    }
+
+    #[test]
+    fn deduplication_leaves_no_value_unrepresented() {
+        // 500k + 300k + 200k = 1M exactly; 600k + 400k0009 sits 0.9 ppm above it, and a single 1M0000018
+        // 0.9 ppm above that. The single is kept first (fewest parts) and drops the pair beside it; the
+        // triple is 1.8 ppm from the single, so nothing kept stands for it and it stays: best finds it.
+        let s = Stock::from_parts(
+            "neighbours",
+            vec![
+                part(1_000_001.8, 0.05, 1, "A"),
+                part(600e3, 0.05, 1, "B"),
+                part(400_000.9, 0.05, 1, "C"),
+                part(500e3, 0.05, 1, "D"),
+                part(300e3, 0.05, 1, "E"),
+                part(200e3, 0.05, 1, "F"),
+            ],
+        );
+        let b = best(&s, Ohms(1e6), 3, 2);
+        assert_eq!(b[0].network.notation(), "500k+300k+200k");
+        assert_eq!(b[1].uses, vec![(0, 1)]);
+        assert_same(&b, &naive_best(&s, 1e6, 3, 2), "neighbours");
+        // A window holding the pair alone offers it: duplicates are settled among the networks asked for.
+        let w = in_window(&s, 3, Ohms(1_000_000.5), Ohms(1_000_001.0));
+        assert_eq!(w.len(), 1);
+        assert_eq!(w[0].uses, vec![(1, 1), (2, 1)]);
+    }
+
+    #[test]
+    fn best_ranks_by_error_then_parts() {
+        // Target 1k1 from 1k, 1k2 and 2k2 × 2: 2k2 | 2k2 is exact; 1k and 1k2 are -9.09 % and +9.09 %,
+        // a tie on |error| that fewer parts cannot break, so the tighter band (the 1 % 1k2) goes first.
+        let s = Stock::from_parts(
+            "rank",
+            vec![
+                part(1000.0, 0.05, 5, "C7"),
+                part(1200.0, 0.01, 5, "C8"),
+                part(2200.0, 0.05, 2, "C2"),
+            ],
+        );
+        let b = best(&s, Ohms(1100.0), 1, 2);
+        assert_eq!(
+            b.iter().map(|c| c.network.notation()).collect::<Vec<_>>(),
+            ["1k2", "1k"]
+        );
+        let b = best(&s, Ohms(1100.0), 2, 1);
+        assert_eq!(b[0].network.notation(), "2k2|2k2");
+        assert_eq!(b[0].error(Ohms(1100.0)), 0.0);
+        assert!(best(&s, Ohms(1100.0), 2, 0).is_empty());
+        assert!(best(&Stock::from_parts("none", vec![]), Ohms(1100.0), 2, 3).is_empty());
+        // Asking for more than there is returns everything, best first.
+        assert_eq!(best(&s, Ohms(1100.0), 1, 10).len(), 3);
+    }
 }

@@ -7,7 +7,10 @@
 //! never loses or renames one. Relies on [`crate::stage`] for the numbers and [`crate::network`] for parts.
 
 pub mod design;
+pub mod histogram;
 pub mod html;
+pub mod result;
+pub mod spread;
 pub mod svg;
 pub mod table;
 pub mod verify;

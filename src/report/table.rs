@@ -9,24 +9,24 @@ use crate::units::Ohms;
 use std::fmt::Write;
 
 /// Columns of text, padded to line up; the first column is left-aligned, the rest right-aligned.
-struct Grid {
+pub(super) struct Grid {
     rows: Vec<Vec<String>>,
     left: usize,
 }
 
 impl Grid {
-    fn new(left: usize) -> Grid {
+    pub(super) fn new(left: usize) -> Grid {
         Grid {
             rows: Vec::new(),
             left,
         }
     }
 
-    fn row<S: Into<String>>(&mut self, cells: impl IntoIterator<Item = S>) {
+    pub(super) fn row<S: Into<String>>(&mut self, cells: impl IntoIterator<Item = S>) {
         self.rows.push(cells.into_iter().map(Into::into).collect());
     }
 
-    fn render(&self, indent: &str) -> String {
+    pub(super) fn render(&self, indent: &str) -> String {
         let n = self.rows.iter().map(Vec::len).max().unwrap_or(0);
         let width = |c: usize| {
             self.rows
@@ -118,7 +118,7 @@ pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
     }
 }
 
-fn heading(s: &StageReport) -> String {
+pub(super) fn heading(s: &StageReport) -> String {
     let supply = match s.supply_neg {
         Some(neg) => format!("{} / −{} supplies", volts(s.supply), volts(neg)),
         None => format!("{} supply", volts(s.supply)),
@@ -134,7 +134,7 @@ fn heading(s: &StageReport) -> String {
     )
 }
 
-fn pnp_note(s: &StageReport) -> &'static str {
+pub(super) fn pnp_note(s: &StageReport) -> &'static str {
     if s.is_pnp() {
         "  (pnp: shown as its npn mirror; every real voltage and current has the opposite sign)\n"
     } else {
@@ -189,7 +189,7 @@ fn ac_lines(s: &StageReport) -> String {
     }
 }
 
-fn cautions(r: &Report) -> String {
+pub(super) fn cautions(r: &Report) -> String {
     let mut out = String::new();
     for c in &r.cautions {
         let _ = writeln!(out, "\ncaution: {c}");
