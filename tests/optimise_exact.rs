@@ -303,3 +303,41 @@ fn two_stages_sharing_a_scarce_value_get_a_valid_split() {
         .iter()
         .all(|b| b.error >= alone.built[0].error - 1e-12));
 }
+
+#[test]
+fn robust_choice_has_the_smallest_worst_case_among_the_variants() {
+    let d = load("divider-9v.toml");
+    let mut rng = Rng(23);
+    let stock = random_stock(&d, &mut rng, 8);
+    let temps = (biasfit::Celsius(-20.0), biasfit::Celsius(70.0));
+    let nominal = design(
+        &d,
+        &stock,
+        &Request {
+            max_parts: 2,
+            ..Request::default()
+        },
+        &mut |_| {},
+    )
+    .unwrap();
+    let robust = design(
+        &d,
+        &stock,
+        &Request {
+            max_parts: 2,
+            robust: true,
+            robust_temp: Some(temps),
+            ..Request::default()
+        },
+        &mut |_| {},
+    )
+    .unwrap();
+    let worst = |nets: &SlotNetworks| biasfit::spread::worst_error(&d.stages[0], nets, temps);
+    let w_robust = robust.built[0]
+        .worst
+        .expect("robust reports its worst case");
+    assert!((w_robust - worst(&robust.built[0].networks)).abs() < 1e-12);
+    // The nominal choice is one of the variants the robust search weighed, so it cannot be better.
+    assert!(w_robust <= worst(&nominal.built[0].networks) + 1e-12);
+    assert!(robust.built[0].error >= nominal.built[0].error - 1e-12);
+}

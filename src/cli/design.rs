@@ -51,6 +51,17 @@ pub struct DesignArgs {
     pub defaults: DefaultArgs,
     #[command(flatten)]
     pub drawings: DrawingArgs,
+    /// Choose the design with the best worst-case error over tolerance, beta and temperature
+    #[arg(long)]
+    pub robust: bool,
+    /// Temperature range for --robust, in °C [default: the design's limits.temperature, else -20..70]
+    #[arg(
+        long,
+        value_name = "LO..HI",
+        allow_hyphen_values = true,
+        requires = "robust"
+    )]
+    pub temp: Option<String>,
     /// Print the report as JSON
     #[arg(long)]
     pub json: bool,
@@ -131,6 +142,12 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
         variants: args.variants as usize,
         alternatives: args.alternatives,
         time_limit,
+        robust: args.robust,
+        robust_temp: args
+            .temp
+            .as_deref()
+            .map(super::spread::parse_range)
+            .transpose()?,
         ..Request::default()
     };
     let progress = Progress::start("searching");

@@ -64,7 +64,7 @@ pub struct SpreadArgs {
 const MAX_RUNS: usize = 2_000_000;
 
 /// Reads "LO..HI" in °C ("-20..70", "0..50", "-10 .. 85 °C").
-fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
+pub fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
     let refuse = |why: &str| {
         Failure::Input(format!(
             "--temp {text}: {why}; expected a range in °C as LO..HI, such as -20..70"

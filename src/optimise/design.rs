@@ -10,7 +10,7 @@ use crate::network::candidates::{Candidate, Index};
 use crate::network::{Network, PartId};
 use crate::stage::{Check, Design, Slot, SlotNetworks, SlotValues, Stage, StageError, Topology};
 use crate::stock::Stock;
-use crate::units::Ohms;
+use crate::units::{Celsius, Ohms};
 use std::time::{Duration, Instant};
 
 /// What to design, and how hard to look.
@@ -30,6 +30,12 @@ pub struct Request {
     pub time_limit: Option<Duration>,
     /// Each slot's candidates lie within this factor of its ideal value.
     pub window: f64,
+    /// Choose by the worst-case error over tolerance, beta and temperature instead of the nominal error. The
+    /// worst case is taken over each stage's `variants` best nominal designs.
+    pub robust: bool,
+    /// The temperature range of the worst case; by default each stage's `limits.temperature`, else the
+    /// spread command's default range.
+    pub robust_temp: Option<(Celsius, Celsius)>,
 }
 
 impl Default for Request {
@@ -42,6 +48,8 @@ impl Default for Request {
             alternatives: 0,
             time_limit: None,
             window: 3.0,
+            robust: false,
+            robust_temp: None,
         }
     }
 }
@@ -55,6 +63,8 @@ pub struct Built {
     pub networks: SlotNetworks,
     /// The exact error from the DC solver.
     pub error: f64,
+    /// The worst-case error over tolerance, beta and temperature (with --robust).
+    pub worst: Option<f64>,
     /// Boards built this way.
     pub copies: u32,
 }
@@ -304,6 +314,7 @@ pub fn design(
     let mut evaluations = 0u64;
     let mut cut_short = false;
     let mut narrowed: Vec<String> = Vec::new();
+    let mut worst_per_stage: Vec<Vec<Option<f64>>> = Vec::new();
     for (si, stage) in design.stages.iter().enumerate() {
         progress(&format!(
             "stage {} of {}: {}",
@@ -397,14 +408,49 @@ pub fn design(
         if found.is_empty() {
             return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
         }
-        for f in &found {
+        let mut found = found;
+        let mut worst_of: Vec<Option<f64>> = vec![None; found.len()];
+        if request.robust {
+            let temps = request
+                .robust_temp
+                .or(stage.limits.temperature)
+                .unwrap_or(crate::spread::Options::default().temperatures);
+            progress(&format!(
+                "stage {}: worst case of {} designs",
+                si + 1,
+                found.len()
+            ));
+            let worst: Vec<f64> = found
+                .iter()
+                .map(|f| {
+                    let nets = SlotNetworks::from_pairs(
+                        slots
+                            .iter()
+                            .enumerate()
+                            .map(|(p, &s)| (s, candidates[p][f.picks[p]].network.clone())),
+                    );
+                    crate::spread::worst_error(stage, &nets, temps)
+                })
+                .collect();
+            let mut order: Vec<usize> = (0..found.len()).collect();
+            order.sort_by(|&a, &b| {
+                worst[a]
+                    .total_cmp(&worst[b])
+                    .then(found[a].error.total_cmp(&found[b].error))
+            });
+            found = order.iter().map(|&i| found[i].clone()).collect();
+            worst_of = order.iter().map(|&i| Some(worst[i])).collect();
+        }
+        for (f, w) in found.iter().zip(&worst_of) {
             variants.push(Variant {
                 stage: si,
-                error: f.error,
+                // With --robust the program minimises the worst case; the nominal error is still reported.
+                error: w.unwrap_or(f.error),
                 parts: f.parts,
                 uses: f.uses.clone(),
             });
         }
+        worst_per_stage.push(worst_of);
         found_per_stage.push((slots, candidates, found));
         if request.time_limit.is_some_and(|l| started.elapsed() >= l)
             && si + 1 < design.stages.len()
@@ -433,7 +479,8 @@ pub fn design(
         offsets.push(at);
         at += found.len();
     }
-    let to_built = |si: usize, f: &Found, copies: u32| -> Built {
+    let to_built = |si: usize, fi: usize, copies: u32| -> Built {
+        let f = &found_per_stage[si].2[fi];
         let (slots, candidates, _) = &found_per_stage[si];
         let networks = SlotNetworks::from_pairs(
             slots
@@ -447,6 +494,7 @@ pub fn design(
             stage: si,
             networks,
             error,
+            worst: worst_per_stage[si][fi],
             copies,
         }
     };
@@ -454,7 +502,7 @@ pub fn design(
     for &(vi, copies) in &allocation.chosen {
         let si = variants[vi].stage;
         let fi = vi - offsets[si];
-        built.push(to_built(si, &found_per_stage[si].2[fi], copies));
+        built.push(to_built(si, fi, copies));
     }
     built.sort_by_key(|b| b.stage);
     let alternatives = (0..design.stages.len())
@@ -471,7 +519,7 @@ pub fn design(
                 .enumerate()
                 .filter(|(fi, _)| !chosen.contains(fi))
                 .take(request.alternatives)
-                .map(|(_, f)| to_built(si, f, 0))
+                .map(|(fi, _)| to_built(si, fi, 0))
                 .collect()
         })
         .collect();

@@ -22,6 +22,9 @@ pub struct BuiltStage {
     pub stage: StageReport,
     /// Boards built this way.
     pub copies: u32,
+    /// The worst-case error over tolerance, beta and temperature, when the design was chosen by it.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub worst_error: Option<f64>,
 }
 
 /// One line of the pick list: what to pull from the drawer.
@@ -112,6 +115,7 @@ impl DesignReport {
             .map(|b| BuiltStage {
                 stage: StageReport::new(&design.stages[b.stage], &b.networks),
                 copies: b.copies,
+                worst_error: b.worst,
             })
             .collect();
         let mut counts: BTreeMap<usize, u32> = BTreeMap::new();
