@@ -643,3 +643,30 @@ fn infeasible(
         reason,
     }
 }
+
+/// The `k` best variants of one stage over given candidate lists (one per slot of `stage.slots()`), by the
+/// stage's solve order; `on_hand` bounds what one board may take of each part.
+pub fn stage_variants(
+    stage: &Stage,
+    candidates: &[Vec<Candidate>],
+    k: usize,
+    on_hand: &[u32],
+    deadline: Option<Instant>,
+) -> (Vec<Found>, Effort) {
+    let slots = stage.slots();
+    let model = Model {
+        stage,
+        slots: slots.clone(),
+    };
+    let ideal = match stage.ideal() {
+        Ok(i) => i,
+        Err(_) => return (Vec::new(), Effort::default()),
+    };
+    let order = solve_order(stage.topology, &slots, &ideal.values, stage.targets().rc);
+    best_variants(&model, &order, candidates, k, on_hand, deadline)
+}
+
+/// Whether a built stage meets every hard constraint: the electrical ones and each member's rating.
+pub fn meets_hard_constraints(stage: &Stage, nets: &SlotNetworks) -> bool {
+    stage.electrical_ok(&nets.values()) && ratings_ok(&stage.checks(nets))
+}

@@ -478,3 +478,250 @@ mod tests {
         );
     }
 }
+
+/// A pack that can be bought: `pack` pieces of stock part `part` for `price`.
+#[derive(Clone, Debug, PartialEq)]
+pub struct PackOffer {
+    /// The part it delivers (an id among the variants' parts).
+    pub part: PartId,
+    /// Pieces per pack.
+    pub pack: u32,
+    /// Price of one pack.
+    pub price: f64,
+}
+
+/// What a purchase must achieve.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub enum Goal {
+    /// The cheapest purchase keeping every board's error within this bound; the error breaks ties.
+    MaxError(f64),
+    /// The smallest worst error (then sum) whose purchase costs at most this much.
+    Budget(f64),
+}
+
+/// Copies of each variant, plus the packs to buy.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Bought {
+    /// The allocation of variants to boards.
+    pub allocation: Allocation,
+    /// (offer index, packs) for every offer bought at least once.
+    pub packs: Vec<(usize, u32)>,
+    /// The total price.
+    pub cost: f64,
+}
+
+/// Weight of the error against money with a bound on the error: small enough never to outweigh a price
+/// difference, large enough to break ties between equally cheap purchases.
+const ERROR_WEIGHT: f64 = 1e-6;
+
+/// Shares the stock and buys packs: the same integer program as [`allocate`], with purchasable parts that
+/// are unlimited but cost money and come in whole packs.
+pub fn allocate_buying(
+    variants: &[Variant],
+    stages: usize,
+    copies: u32,
+    stock: &[u32],
+    offers: &[PackOffer],
+    goal: Goal,
+    time_limit: Option<Duration>,
+) -> Result<Bought, ShareError> {
+    for s in 0..stages {
+        if !variants.iter().any(|v| v.stage == s) {
+            return Err(ShareError::NoVariant(s));
+        }
+    }
+    match goal {
+        Goal::MaxError(bound) => {
+            solve_buying(variants, stages, copies, stock, offers, bound, None, time_limit)?.ok_or(ShareError::Scarce { copies })
+        }
+        Goal::Budget(budget) => {
+            let mut thresholds: Vec<f64> = variants.iter().map(cost).collect();
+            thresholds.sort_by(f64::total_cmp);
+            thresholds.dedup_by(|a, b| (*a - *b).abs() <= ERROR_EPSILON);
+            let started = Instant::now();
+            let remaining = || time_limit.map(|l| l.saturating_sub(started.elapsed()));
+            let top = *thresholds.last().expect("at least one variant");
+            let mut best = solve_buying(variants, stages, copies, stock, offers, top, Some(budget), remaining())?
+                .ok_or(ShareError::Scarce { copies })?;
+            let (mut lo, mut hi) = (0usize, thresholds.len() - 1);
+            while lo < hi {
+                if time_limit.is_some_and(|l| started.elapsed() >= l) {
+                    best.allocation.proven = false;
+                    break;
+                }
+                let mid = (lo + hi) / 2;
+                match solve_buying(variants, stages, copies, stock, offers, thresholds[mid], Some(budget), remaining())? {
+                    Some(b) => {
+                        hi = mid;
+                        best = b;
+                    }
+                    None => lo = mid + 1,
+                }
+            }
+            Ok(best)
+        }
+    }
+}
+
+/// The best purchase using only variants with cost ≤ `threshold`: cheapest (error breaking ties) without a
+/// budget; smallest error sum (price breaking ties) within one.
+#[allow(clippy::too_many_arguments)]
+fn solve_buying(
+    variants: &[Variant],
+    stages: usize,
+    copies: u32,
+    stock: &[u32],
+    offers: &[PackOffer],
+    threshold: f64,
+    budget: Option<f64>,
+    time_limit: Option<Duration>,
+) -> Result<Option<Bought>, ShareError> {
+    let allowed: Vec<usize> = (0..variants.len())
+        .filter(|&i| cost(&variants[i]) <= threshold + ERROR_EPSILON)
+        .collect();
+    for s in 0..stages {
+        if !allowed.iter().any(|&i| variants[i].stage == s) {
+            return Ok(None);
+        }
+    }
+    let mut problem = ProblemVariables::new();
+    let x: Vec<Variable> = allowed
+        .iter()
+        .map(|_| problem.add(variable().integer().min(0).max(copies as f64)))
+        .collect();
+    // The most pieces of a part any allocation could want bounds its packs.
+    let mut most: BTreeMap<PartId, f64> = BTreeMap::new();
+    for &i in &allowed {
+        for &(p, c) in &variants[i].uses {
+            let e = most.entry(p).or_default();
+            *e = e.max(c as f64 * copies as f64 * stages as f64);
+        }
+    }
+    let y: Vec<Variable> = offers
+        .iter()
+        .map(|o| {
+            let cap = (most.get(&o.part).copied().unwrap_or(0.0) / o.pack as f64).ceil();
+            problem.add(variable().integer().min(0).max(cap))
+        })
+        .collect();
+    let money: Expression = offers.iter().zip(&y).map(|(o, &yi)| o.price * yi).sum();
+    let errors: Expression = allowed.iter().zip(&x).map(|(&i, &xi)| cost(&variants[i]) * xi).sum();
+    let objective = match budget {
+        None => money.clone() + ERROR_WEIGHT * errors,
+        // Money breaks ties: far below any difference in error.
+        Some(_) => errors + 1e-9 * money.clone(),
+    };
+    let mut model = problem.minimise(objective).using(microlp);
+    if let Some(limit) = time_limit {
+        model = model.with_time_limit(limit.as_secs_f64().max(0.01));
+    }
+    for s in 0..stages {
+        let boards: Expression =
+            allowed.iter().zip(&x).filter(|(&i, _)| variants[i].stage == s).map(|(_, &xi)| xi).sum();
+        model = model.with(constraint!(boards == copies as f64));
+    }
+    let mut per_part: BTreeMap<PartId, Expression> = BTreeMap::new();
+    for (&i, &xi) in allowed.iter().zip(&x) {
+        for &(p, c) in &variants[i].uses {
+            *per_part.entry(p).or_default() += c as f64 * xi;
+        }
+    }
+    for (o, &yi) in offers.iter().zip(&y) {
+        *per_part.entry(o.part).or_default() -= o.pack as f64 * yi;
+    }
+    for (p, used) in per_part {
+        let on_hand = stock.get(p).copied().unwrap_or(0) as f64;
+        model = model.with(constraint!(used <= on_hand));
+    }
+    if let Some(b) = budget {
+        model = model.with(constraint!(money <= b));
+    }
+    let solution = match model.solve() {
+        Ok(s) => s,
+        Err(ResolutionError::Infeasible) => return Ok(None),
+        Err(ResolutionError::Other(msg)) if msg.contains("Time limit") => return Err(ShareError::TimedOut),
+        Err(e) => return Err(ShareError::Solver(e.to_string())),
+    };
+    let proven = matches!(solution.status(), SolutionStatus::Optimal);
+    let chosen: Vec<(usize, u32)> = allowed
+        .iter()
+        .zip(&x)
+        .filter_map(|(&i, &xi)| {
+            let n = solution.value(xi).round();
+            (n >= 1.0).then_some((i, n as u32))
+        })
+        .collect();
+    let packs: Vec<(usize, u32)> = y
+        .iter()
+        .enumerate()
+        .filter_map(|(o, &yi)| {
+            let n = solution.value(yi).round();
+            (n >= 1.0).then_some((o, n as u32))
+        })
+        .collect();
+    // Verify exactly: every board complete, and stock plus purchase covers every part.
+    let mut have: Vec<u64> = stock.iter().map(|&q| q as u64).collect();
+    for &(o, n) in &packs {
+        let p = offers[o].part;
+        if p >= have.len() {
+            have.resize(p + 1, 0);
+        }
+        have[p] += offers[o].pack as u64 * n as u64;
+    }
+    let have32: Vec<u32> = have.iter().map(|&h| h.min(u32::MAX as u64) as u32).collect();
+    let complete = (0..stages).all(|s| {
+        chosen.iter().filter(|&&(i, _)| variants[i].stage == s).map(|&(_, n)| n).sum::<u32>() == copies
+    });
+    if !complete || !fits(variants, &chosen, &have32) {
+        return Err(ShareError::Solver("the solver returned a purchase that does not check out".into()));
+    }
+    let total: f64 = packs.iter().map(|&(o, n)| offers[o].price * n as f64).sum();
+    if budget.is_some_and(|b| total > b + 1e-9) {
+        return Err(ShareError::Solver("the solver returned a purchase over the budget".into()));
+    }
+    Ok(Some(Bought {
+        allocation: summarise(variants, chosen, proven),
+        packs,
+        cost: total,
+    }))
+}
+
+#[cfg(test)]
+mod buying_tests {
+    use super::*;
+
+    #[test]
+    fn buys_the_cheapest_packs_that_meet_the_bound() {
+        // Part 0 is on hand (1 piece); parts 1 and 2 must be bought. Variant A (error 1 %) needs part 1,
+        // variant B (0.2 %) part 2, variant C (3 %) the stocked part.
+        let variants = vec![
+            Variant { stage: 0, error: 0.01, parts: 1, uses: vec![(1, 1)] },
+            Variant { stage: 0, error: 0.002, parts: 1, uses: vec![(2, 1)] },
+            Variant { stage: 0, error: 0.03, parts: 1, uses: vec![(0, 1)] },
+        ];
+        let offers = vec![
+            PackOffer { part: 1, pack: 1, price: 0.10 },
+            PackOffer { part: 2, pack: 10, price: 0.50 },
+            PackOffer { part: 2, pack: 1, price: 0.08 },
+        ];
+        let stock = [1, 0, 0];
+        // Within 5 %, the stocked part costs nothing.
+        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.05), None).unwrap();
+        assert_eq!(b.cost, 0.0);
+        assert_eq!(b.allocation.chosen, vec![(2, 1)]);
+        // Within 1.5 %: part 2 single pack (0.08) is cheaper than part 1 (0.10), and more accurate.
+        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.015), None).unwrap();
+        assert!((b.cost - 0.08).abs() < 1e-12);
+        // Twelve boards within 0.5 %: 12 of part 2 as one 10-pack and two singles (0.66), not 12 singles (0.96).
+        let b = allocate_buying(&variants, 1, 12, &stock, &offers, Goal::MaxError(0.005), None).unwrap();
+        assert!((b.cost - 0.66).abs() < 1e-9, "{}", b.cost);
+        // A budget of 0.09 buys the best error it can: variant B.
+        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::Budget(0.09), None).unwrap();
+        assert_eq!(b.allocation.chosen, vec![(1, 1)]);
+        // No budget at all: the stocked part.
+        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::Budget(0.0), None).unwrap();
+        assert_eq!(b.allocation.chosen, vec![(2, 1)]);
+        // A bound nothing meets.
+        assert!(allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.001), None).is_err());
+    }
+}

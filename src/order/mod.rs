@@ -8,6 +8,7 @@
 
 pub mod catalogue;
 pub mod orderfile;
+pub mod purchase;
 pub mod stocktake;
 
 use crate::notation::code;
