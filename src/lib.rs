@@ -9,6 +9,12 @@
 
 pub mod network;
 pub mod notation;
+pub mod optimise;
+pub mod order;
+pub mod report;
+pub mod save;
+pub mod spread;
+pub mod stage;
 pub mod stock;
 pub mod units;
 

@@ -3,8 +3,12 @@
 //! Exit codes: 0 done; 1 done, but a check failed or a build fault was found; 2 bad input (flags, files,
 //! values); 3 no stocked design meets the hard constraints; 4 an output could not be written.
 
+mod check;
+mod design;
 mod fix;
+mod ideal;
 mod output;
+mod spread;
 mod stock;
 
 use clap::{Parser, Subcommand};
@@ -26,6 +30,14 @@ enum Command {
     Stock(stock::StockArgs),
     /// The best one-, two- or three-resistor networks from stock for one value
     Fix(fix::FixArgs),
+    /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
+    Ideal(ideal::IdealArgs),
+    /// Evaluate a stage built from given networks: the exact operating point and every check
+    Check(check::CheckArgs),
+    /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
+    Spread(spread::SpreadArgs),
+    /// Fill every slot of every stage from stock so the operating points land closest to their targets
+    Design(design::DesignArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
@@ -71,6 +83,10 @@ pub fn main() -> ExitCode {
     let result = match cli.command {
         Command::Stock(args) => stock::run(args, &mut out),
         Command::Fix(args) => fix::run(args, &mut out),
+        Command::Ideal(args) => ideal::run(args, &mut out),
+        Command::Check(args) => check::run(args, &mut out),
+        Command::Spread(args) => spread::run(args, &mut out),
+        Command::Design(args) => design::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

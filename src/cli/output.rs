@@ -55,9 +55,82 @@ impl Out {
     }
 }
 
+/// Writes a file atomically: a temporary file in the same folder, then a rename over the target, so a reader
+/// never sees it half-written.
+pub fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> Result<(), Failure> {
+    biasfit::save::Saver::new()
+        .write(path, bytes)
+        .map_err(|e| Failure::Io(e.to_string()))
+}
+
 /// Prints warnings to stderr, each once, prefixed so they stand out from the report.
 pub fn warn_all(warnings: &[String]) {
     for w in warnings {
         eprintln!("warning: {w}");
+    }
+}
+
+/// A progress line on stderr for work that may take more than a second: silent for the first second, then a
+/// spinner with the current phase, redrawn in place; only on a terminal, and erased when dropped.
+pub struct Progress {
+    phase: std::sync::Arc<std::sync::Mutex<String>>,
+    done: std::sync::Arc<std::sync::atomic::AtomicBool>,
+    thread: Option<std::thread::JoinHandle<()>>,
+}
+
+impl Progress {
+    /// Starts the indicator (a no-op when stderr is not a terminal).
+    pub fn start(first: &str) -> Progress {
+        use std::sync::atomic::{AtomicBool, Ordering};
+        use std::sync::{Arc, Mutex};
+        let phase = Arc::new(Mutex::new(first.to_string()));
+        let done = Arc::new(AtomicBool::new(false));
+        let thread = std::io::stderr().is_terminal().then(|| {
+            let (phase, done) = (phase.clone(), done.clone());
+            std::thread::spawn(move || {
+                let started = std::time::Instant::now();
+                let frames = ['|', '/', '-', '\\'];
+                let mut shown = false;
+                let mut i = 0;
+                while !done.load(Ordering::Relaxed) {
+                    std::thread::sleep(std::time::Duration::from_millis(100));
+                    if started.elapsed().as_secs_f64() < 1.0 || done.load(Ordering::Relaxed) {
+                        continue;
+                    }
+                    let text = phase.lock().map(|p| p.clone()).unwrap_or_default();
+                    eprint!(
+                        "\r\x1b[2K{} {text} ({:.0} s)",
+                        frames[i % 4],
+                        started.elapsed().as_secs_f64()
+                    );
+                    shown = true;
+                    i += 1;
+                }
+                if shown {
+                    eprint!("\r\x1b[2K");
+                }
+            })
+        });
+        Progress {
+            phase,
+            done,
+            thread,
+        }
+    }
+
+    /// Says what is being done now.
+    pub fn phase(&self, text: &str) {
+        if let Ok(mut p) = self.phase.lock() {
+            *p = text.to_string();
+        }
+    }
+}
+
+impl Drop for Progress {
+    fn drop(&mut self) {
+        self.done.store(true, std::sync::atomic::Ordering::Relaxed);
+        if let Some(t) = self.thread.take() {
+            let _ = t.join();
+        }
     }
 }

@@ -1,22 +1,80 @@
-//! `biasfit stock FILE`: validate a stock file and summarise it.
+//! `biasfit stock FILE`: validate a stock file and summarise it; `biasfit stock take` and `biasfit stock add`:
+//! keep it true to the drawer after a build or a delivery.
 
 use super::output::warn_all;
 use super::{input, Failure, Out};
 use biasfit::notation::{parse_tolerance, parse_watts};
+use biasfit::order::orderfile;
+use biasfit::order::stocktake::{self, Edit, StockFile, TakeError};
+use biasfit::save::{self, Saver};
 use biasfit::stock::{self, Defaults, Summary};
-use clap::Args;
-use std::path::PathBuf;
+use clap::{Args, Subcommand};
+use serde::Serialize;
+use std::path::{Path, PathBuf};
 
 /// Arguments of `biasfit stock`.
 #[derive(Debug, Args)]
+#[command(args_conflicts_with_subcommands = true, subcommand_negates_reqs = true)]
 pub struct StockArgs {
+    #[command(subcommand)]
+    pub action: Option<StockAction>,
     /// The stock CSV file
-    pub file: PathBuf,
+    #[arg(required = true)]
+    pub file: Option<PathBuf>,
     #[command(flatten)]
     pub defaults: DefaultArgs,
     /// Print the summary as JSON
     #[arg(long)]
     pub json: bool,
+}
+
+/// What to do to a stock file other than summarise it.
+#[derive(Debug, Subcommand)]
+pub enum StockAction {
+    /// Subtract the parts a design used (keeps STOCK.bak, then rewrites only the qty fields)
+    Take(TakeArgs),
+    /// Add the parts that arrived, from an order file (keeps STOCK.bak)
+    Add(AddArgs),
+}
+
+/// Arguments of `biasfit stock take`.
+#[derive(Debug, Args)]
+pub struct TakeArgs {
+    /// The stock CSV file to take from
+    pub stock: PathBuf,
+    /// The design result (what `biasfit design --json` wrote)
+    #[arg(long, value_name = "FILE")]
+    pub result: PathBuf,
+    /// Boards built: scales a one-board result; must match a result made for several
+    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..))]
+    pub copies: Option<u32>,
+    #[command(flatten)]
+    pub edit: EditArgs,
+}
+
+/// Arguments of `biasfit stock add`.
+#[derive(Debug, Args)]
+pub struct AddArgs {
+    /// The stock CSV file to add to
+    pub stock: PathBuf,
+    /// The order file (what `biasfit order --csv` wrote: value,tolerance,power,qty,…)
+    #[arg(long, value_name = "FILE")]
+    pub order: PathBuf,
+    #[command(flatten)]
+    pub edit: EditArgs,
+}
+
+/// Options shared by the commands that rewrite a stock file.
+#[derive(Debug, Args)]
+pub struct EditArgs {
+    /// Show what would change, and write nothing
+    #[arg(long)]
+    pub dry_run: bool,
+    /// Print what changed as JSON
+    #[arg(long)]
+    pub json: bool,
+    #[command(flatten)]
+    pub defaults: DefaultArgs,
 }
 
 /// What to assume for stock rows that leave tolerance or power blank.
@@ -43,7 +101,7 @@ impl DefaultArgs {
 }
 
 /// Loads a stock file and prints its warnings.
-pub fn load(file: &std::path::Path, defaults: &DefaultArgs) -> Result<stock::Stock, Failure> {
+pub fn load(file: &Path, defaults: &DefaultArgs) -> Result<stock::Stock, Failure> {
     let s = stock::load(file, defaults.resolve()?).map_err(input)?;
     warn_all(&s.warnings);
     Ok(s)
@@ -51,11 +109,109 @@ pub fn load(file: &std::path::Path, defaults: &DefaultArgs) -> Result<stock::Sto
 
 /// Runs `biasfit stock`.
 pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
-    let s = load(&args.file, &args.defaults)?;
+    match args.action {
+        Some(StockAction::Take(a)) => return take(a, out),
+        Some(StockAction::Add(a)) => return add(a, out),
+        None => {}
+    }
+    let Some(file) = args.file else {
+        return Err(Failure::Input(
+            "no stock file given; expected `biasfit stock FILE`".into(),
+        ));
+    };
+    let s = load(&file, &args.defaults)?;
     let summary = Summary::of(&s);
     if args.json {
         out.json(&summary)
     } else {
         out.text(&summary.render())
     }
+}
+
+/// Loads a stock file for editing, and says if an interrupted write left a temporary file beside it.
+fn load_for_edit(path: &Path, defaults: &DefaultArgs) -> Result<StockFile, Failure> {
+    let sf = StockFile::load(path, defaults.resolve()?).map_err(input)?;
+    warn_all(&sf.stock.warnings);
+    let stale: Vec<String> = save::leftovers(path)
+        .iter()
+        .map(|p| {
+            format!(
+                "{} looks left over from an interrupted write; it is not the stock file and can be deleted once no biasfit is running",
+                p.display()
+            )
+        })
+        .collect();
+    warn_all(&stale);
+    Ok(sf)
+}
+
+/// A refused take or add: a short stock cannot build the design; anything else is bad input.
+fn refused(e: TakeError) -> Failure {
+    match e {
+        TakeError::Short { .. } => Failure::Infeasible(e.to_string()),
+        _ => Failure::Input(e.to_string()),
+    }
+}
+
+/// What `--json` prints for a take or an add.
+#[derive(Serialize)]
+struct EditReport<'a> {
+    #[serde(flatten)]
+    edit: &'a Edit,
+    /// Whether the file was rewritten.
+    written: bool,
+    /// Where the previous contents were kept, when it was.
+    backup: Option<String>,
+}
+
+/// Writes the edit (unless it changes nothing or this is a dry run) and reports it.
+fn finish(
+    path: &Path,
+    sf: &StockFile,
+    edit: Edit,
+    args: &EditArgs,
+    out: &mut Out,
+) -> Result<(), Failure> {
+    let mut backup = None;
+    if !args.dry_run && !edit.is_empty() {
+        let done = Saver::with_test_hooks_from_env()
+            .replace(path, &sf.bytes, &edit.contents)
+            .map_err(|e| Failure::Io(e.to_string()))?;
+        backup = Some(done.backup.display().to_string());
+    }
+    if args.json {
+        return out.json(&EditReport {
+            edit: &edit,
+            written: backup.is_some(),
+            backup,
+        });
+    }
+    out.text(&edit.render())?;
+    match (&backup, args.dry_run) {
+        (Some(b), _) => out.text(&format!("\nprevious contents kept in {b}\n")),
+        (None, true) if !edit.is_empty() => out.text("\ndry run: nothing was written\n"),
+        _ => Ok(()),
+    }
+}
+
+/// Runs `biasfit stock take`.
+fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
+    let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
+    let result = stocktake::load_result(&args.result).map_err(refused)?;
+    let picks = result
+        .wanted(&args.result.display().to_string(), args.copies)
+        .map_err(refused)?;
+    let edit = stocktake::take(&sf, &picks).map_err(refused)?;
+    finish(&args.stock, &sf, edit, &args.edit, out)
+}
+
+/// Runs `biasfit stock add`.
+fn add(args: AddArgs, out: &mut Out) -> Result<(), Failure> {
+    let defaults = args.edit.defaults.resolve()?;
+    let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
+    let arrivals = orderfile::load(&args.order, defaults).map_err(input)?;
+    warn_all(&arrivals.warnings);
+    let order = args.order.display().to_string();
+    let edit = stocktake::add(&sf, &order, &arrivals.rows).map_err(refused)?;
+    finish(&args.stock, &sf, edit, &args.edit, out)
 }

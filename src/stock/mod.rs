@@ -4,16 +4,21 @@
 //! Columns are found by header name in any order and case (value and qty are required; tolerance, power,
 //! location and note are optional; other columns are kept in the file and ignored). Rows with the same value,
 //! tolerance and power merge into one [`Part`]. Every bad row is an error naming the file, the line, the
-//! column and the text: nothing is dropped quietly.
+//! column and the text: nothing is dropped quietly. The CSV reading rules themselves (encoding, comments,
+//! delimiter, quoting) live in [`table`], shared with the other CSV files biasfit reads.
 
 pub mod summary;
+pub mod table;
 
 use crate::notation::{parse_ohms, parse_tolerance, parse_watts};
 use crate::units::{Ohms, Tolerance, Watts};
-use std::collections::HashMap;
+use std::collections::{HashMap, HashSet};
+use std::ops::Range;
 use std::path::Path;
+use table::{Column, Schema, Table};
 
 pub use summary::Summary;
+pub use table::{CsvError, Layout};
 
 /// One kind of resistor on hand: a value, tolerance and rating, with how many there are and where.
 #[derive(Clone, Debug, PartialEq)]
@@ -50,6 +55,10 @@ pub struct Row {
     pub part: usize,
     /// The row's own quantity.
     pub qty: u32,
+    /// The row's own location, if it names one.
+    pub location: Option<String>,
+    /// Where the qty text sits in the file's bytes, so that it can be rewritten in place.
+    pub qty_span: Range<usize>,
 }
 
 /// A validated stock file.
@@ -63,6 +72,10 @@ pub struct Stock {
     pub rows: Vec<Row>,
     /// The field delimiter found in the header line.
     pub delimiter: u8,
+    /// How the file is laid out (column order, delimiter, line end), for rows appended to it.
+    pub layout: Layout,
+    /// What was assumed for rows that leave tolerance or power blank.
+    pub defaults: Defaults,
     /// Things the user should know but that did not stop the load (defaults applied, delimiter guessed).
     pub warnings: Vec<String>,
 }
@@ -86,264 +99,67 @@ impl Default for Defaults {
     }
 }
 
-/// Why a stock file was refused.
-#[derive(Debug, thiserror::Error)]
-pub enum StockError {
-    /// The file could not be read.
-    #[error("{file}: cannot read the stock file: {source}")]
-    Io {
-        /// The file.
-        file: String,
-        /// The system's reason.
-        source: std::io::Error,
-    },
-    /// The file is not UTF-8 text.
-    #[error("{file}:{line}: the file is not UTF-8 text (byte {byte}); save it as UTF-8 CSV")]
-    NotUtf8 {
-        /// The file.
-        file: String,
-        /// 1-based line of the first bad byte.
-        line: usize,
-        /// 1-based byte offset in the line.
-        byte: usize,
-    },
-    /// No header row.
-    #[error("{file}: the file has no header row; expected a first line such as value,qty,tolerance,power,location")]
-    NoHeader {
-        /// The file.
-        file: String,
-    },
-    /// A required column is not in the header.
-    #[error("{file}:{line}: no '{column}' column in the header ({found}); expected columns value and qty, optionally tolerance, power, location, note")]
-    MissingColumn {
-        /// The file.
-        file: String,
-        /// The header's line.
-        line: usize,
-        /// The required column.
-        column: &'static str,
-        /// The header as found.
-        found: String,
-    },
-    /// The header names a column twice.
-    #[error("{file}:{line}: the header names column '{column}' twice; keep one")]
-    DuplicateColumn {
-        /// The file.
-        file: String,
-        /// The header's line.
-        line: usize,
-        /// The repeated column.
-        column: String,
-    },
-    /// A field could not be read.
-    #[error("{file}:{line}: column {column}: {message}")]
-    Field {
-        /// The file.
-        file: String,
-        /// 1-based line.
-        line: usize,
-        /// The column's name.
-        column: &'static str,
-        /// What is wrong and what is expected, quoting the text.
-        message: String,
-    },
-    /// A row's shape is wrong (too many fields, broken quoting).
-    #[error("{file}:{line}: {message}")]
-    Row {
-        /// The file.
-        file: String,
-        /// 1-based line.
-        line: usize,
-        /// What is wrong.
-        message: String,
-    },
-}
+/// Why a stock file was refused (the shared CSV error: every variant names the file, and most the line).
+pub type StockError = CsvError;
 
-/// The columns biasfit reads, with the header names it accepts for each.
-const COLUMNS: [(&str, &[&str]); 6] = [
-    ("value", &["value", "ohms", "resistance"]),
-    ("qty", &["qty", "quantity"]),
-    ("tolerance", &["tolerance", "tol"]),
-    ("power", &["power", "rating"]),
-    ("location", &["location", "bin"]),
-    ("note", &["note", "notes"]),
-];
+/// The columns a stock file has, with the header names accepted for each.
+pub const SCHEMA: Schema = Schema {
+    kind: "stock file",
+    columns: &[
+        Column {
+            name: "value",
+            aliases: &["value", "ohms", "resistance"],
+            required: true,
+        },
+        Column {
+            name: "qty",
+            aliases: &["qty", "quantity"],
+            required: true,
+        },
+        Column {
+            name: "tolerance",
+            aliases: &["tolerance", "tol"],
+            required: false,
+        },
+        Column {
+            name: "power",
+            aliases: &["power", "rating"],
+            required: false,
+        },
+        Column {
+            name: "location",
+            aliases: &["location", "bin"],
+            required: false,
+        },
+        Column {
+            name: "note",
+            aliases: &["note", "notes"],
+            required: false,
+        },
+    ],
+    example_header: "value,qty,tolerance,power,location",
+};
 
 /// Reads a stock file from disk.
 pub fn load(path: &Path, defaults: Defaults) -> Result<Stock, StockError> {
-    let file = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|source| StockError::Io {
-        file: file.clone(),
-        source,
-    })?;
-    parse(&file, &bytes, defaults)
-}
-
-/// The 1-based line and column of a byte offset.
-fn line_of(bytes: &[u8], offset: usize) -> (usize, usize) {
-    let before = &bytes[..offset.min(bytes.len())];
-    let line = before.iter().filter(|&&b| b == b'\n').count() + 1;
-    let col = offset
-        - before
-            .iter()
-            .rposition(|&b| b == b'\n')
-            .map_or(0, |p| p + 1)
-        + 1;
-    (line, col)
-}
-
-/// Finds the delimiter from the header line: the most frequent of comma, semicolon and tab.
-fn detect_delimiter(text: &str) -> u8 {
-    let header = text
-        .lines()
-        .map(str::trim)
-        .find(|l| !l.is_empty() && !l.starts_with('#'))
-        .unwrap_or("");
-    let count = |c: char| header.matches(c).count();
-    let (comma, semi, tab) = (count(','), count(';'), count('\t'));
-    if semi > comma && semi >= tab {
-        b';'
-    } else if tab > comma && tab > semi {
-        b'\t'
-    } else {
-        b','
-    }
+    let bytes = table::read_bytes(path, SCHEMA.kind)?;
+    parse(&path.display().to_string(), &bytes, defaults)
 }
 
 /// Reads a stock file's contents; `file` names it in messages.
 pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, StockError> {
-    let bytes = bytes.strip_prefix(b"\xEF\xBB\xBF").unwrap_or(bytes);
-    let text = std::str::from_utf8(bytes).map_err(|e| {
-        let (line, byte) = line_of(bytes, e.valid_up_to());
-        StockError::NotUtf8 {
-            file: file.to_string(),
-            line,
-            byte,
-        }
-    })?;
-    let delimiter = detect_delimiter(text);
-    let mut warnings = Vec::new();
-    if delimiter != b',' {
-        let name = if delimiter == b';' {
-            "semicolon"
-        } else {
-            "tab"
-        };
-        warnings.push(format!(
-            "{file}: fields are separated by {name}s (found in the header line)"
-        ));
-    }
-    // Comment and blank lines are dropped before the csv reader sees the text, remembering where every kept
-    // line came from: the reader's own line count skips them, and messages must name the line in the file.
-    let mut kept = String::with_capacity(text.len());
-    let mut origin = Vec::new();
-    for (i, l) in text.split('\n').enumerate() {
-        let t = l.trim();
-        if t.is_empty() || t.starts_with('#') {
-            continue;
-        }
-        // CRLF becomes LF: the reader counts a CR-LF pair's lines one record late.
-        kept.push_str(l.strip_suffix('\r').unwrap_or(l));
-        kept.push('\n');
-        origin.push(i + 1);
-    }
-    let line_at = |pos: Option<&csv::Position>| {
-        pos.and_then(|p| origin.get((p.line() as usize).saturating_sub(1)).copied())
-            .unwrap_or(0)
-    };
-    let mut reader = csv::ReaderBuilder::new()
-        .delimiter(delimiter)
-        .flexible(true)
-        .trim(csv::Trim::All)
-        .has_headers(false)
-        .from_reader(kept.as_bytes());
-    let mut records = reader.records();
-    let row_error = |line: usize, message: String| StockError::Row {
-        file: file.to_string(),
-        line,
-        message,
-    };
-    let header = match records.next() {
-        None => {
-            return Err(StockError::NoHeader {
-                file: file.to_string(),
-            })
-        }
-        Some(Err(e)) => {
-            return Err(row_error(
-                line_at(e.position()),
-                format!("the header cannot be read: {e}"),
-            ))
-        }
-        Some(Ok(h)) => h,
-    };
-    let header_line = line_at(header.position());
-    let mut index: HashMap<&'static str, usize> = HashMap::new();
-    for (i, name) in header.iter().enumerate() {
-        let lower = name.trim().to_lowercase();
-        if let Some((canon, _)) = COLUMNS
-            .iter()
-            .find(|(_, names)| names.contains(&lower.as_str()))
-        {
-            if index.insert(canon, i).is_some() {
-                return Err(StockError::DuplicateColumn {
-                    file: file.to_string(),
-                    line: header_line,
-                    column: name.to_string(),
-                });
-            }
-        }
-    }
-    for required in ["value", "qty"] {
-        if !index.contains_key(required) {
-            return Err(StockError::MissingColumn {
-                file: file.to_string(),
-                line: header_line,
-                column: required,
-                found: header
-                    .iter()
-                    .collect::<Vec<_>>()
-                    .join(&(delimiter as char).to_string()),
-            });
-        }
-    }
-
+    let table = Table::parse(file, bytes, &SCHEMA)?;
+    let mut warnings = table.warnings.clone();
     let mut parts: Vec<Part> = Vec::new();
-    let mut rows = Vec::new();
+    let mut rows = Vec::with_capacity(table.records.len());
     let mut by_key: HashMap<(u64, u64, u64), usize> = HashMap::new();
     let (mut no_tolerance, mut no_power) = (0usize, 0usize);
-    for record in records {
-        let record = record.map_err(|e| {
-            row_error(
-                line_at(e.position()),
-                format!("the row cannot be read: {e}"),
-            )
-        })?;
-        let line = line_at(record.position());
-        if record.len() > header.len() {
-            return Err(row_error(
-                line,
-                format!(
-                    "the row has {} fields but the header has {}; quote any field that contains '{}'",
-                    record.len(),
-                    header.len(),
-                    delimiter as char
-                ),
-            ));
-        }
-        let get = |column: &str| {
-            index
-                .get(column)
-                .and_then(|&i| record.get(i))
-                .unwrap_or("")
-                .trim()
-        };
-        let field = |column: &'static str, message: String| StockError::Field {
-            file: file.to_string(),
-            line,
-            column,
-            message,
-        };
+    let mut seen_locations: HashSet<(usize, &str)> = HashSet::new();
+    for record in &table.records {
+        let line = record.line;
+        let get = |column: &str| table.get(record, column);
+        let field =
+            |column: &'static str, message: String| table.field_error(record, column, message);
         let value = get("value");
         if value.is_empty() {
             return Err(field(
@@ -353,7 +169,7 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         }
         let ohms = parse_ohms(value).map_err(|e| field("value", e.to_string()))?;
         let qty_text = get("qty");
-        let qty: u32 = qty_text.parse().map_err(|_| {
+        let qty: u32 = parse_count(qty_text).ok_or_else(|| {
             field(
                 "qty",
                 format!("\"{qty_text}\" is not a quantity; expected a whole number of pieces, 0 or more"),
@@ -395,7 +211,8 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         })?;
         part.lines.push(line);
         let location = get("location");
-        if !location.is_empty() && !part.locations.iter().any(|l| l == location) {
+        // A set per part keeps this linear: a large stock can give one part thousands of bins.
+        if !location.is_empty() && seen_locations.insert((id, location)) {
             part.locations.push(location.to_string());
         }
         let note = get("note");
@@ -406,6 +223,9 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
             line,
             part: id,
             qty,
+            location: (!location.is_empty()).then(|| location.to_string()),
+            // The qty field is present: an absent one reads as "" and was refused above.
+            qty_span: table.field(record, "qty").map_or(0..0, |f| f.span.clone()),
         });
     }
     if no_tolerance > 0 {
@@ -424,9 +244,19 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         file: file.to_string(),
         parts,
         rows,
-        delimiter,
+        delimiter: table.layout.delimiter,
+        layout: table.layout,
+        defaults,
         warnings,
     })
+}
+
+/// Reads a whole number of pieces, 0 or more: digits only (no sign, no point, no spaces inside).
+pub fn parse_count(text: &str) -> Option<u32> {
+    if text.is_empty() || !text.bytes().all(|b| b.is_ascii_digit()) {
+        return None;
+    }
+    text.parse().ok()
 }
 
 impl Stock {
@@ -442,6 +272,8 @@ impl Stock {
             rows: Vec::new(),
             parts,
             delimiter: b',',
+            layout: Layout::default(),
+            defaults: Defaults::default(),
             warnings: Vec::new(),
         }
     }
@@ -552,6 +384,18 @@ mod tests {
             err.to_string(),
             "x.csv:3: the file is not UTF-8 text (byte 1); save it as UTF-8 CSV"
         );
+    }
+
+    #[test]
+    fn rows_remember_their_location_and_where_their_qty_is() {
+        let text = "value;bin;qty\r\n4k7;A1; 12\r\n4k7;;\"3\"\r\n";
+        let s = load_str(text).unwrap();
+        assert_eq!(s.rows[0].location.as_deref(), Some("A1"));
+        assert_eq!(s.rows[1].location, None);
+        assert_eq!(&text[s.rows[0].qty_span.clone()], "12");
+        assert_eq!(&text[s.rows[1].qty_span.clone()], "3");
+        assert_eq!(s.layout.columns["qty"], 2);
+        assert_eq!(s.layout.line_end, table::LineEnd::CrLf);
     }
 
     #[test]

@@ -1,0 +1,153 @@
+//! `biasfit design FILE --stock STOCK`: fill every slot of every stage from stock so that the operating
+//! points land closest to their targets, and print the build sheet, the baseline and the pick list.
+
+use super::ideal::stages;
+use super::output::Progress;
+use super::stock::{load as load_stock, DefaultArgs};
+use super::{Failure, Out};
+use biasfit::notation::{parse_network, parse_tolerance, parse_watts};
+use biasfit::optimise::design::{design, DesignError, Request};
+use biasfit::report::design::{render, DesignReport};
+use biasfit::stage::{Design, Slot};
+use clap::Args;
+use std::path::PathBuf;
+use std::time::Duration;
+
+/// Arguments of `biasfit design`.
+#[derive(Debug, Args)]
+pub struct DesignArgs {
+    /// The design file (TOML)
+    pub file: PathBuf,
+    /// The stock CSV file
+    #[arg(long, value_name = "STOCK")]
+    pub stock: PathBuf,
+    /// At most this many resistors per slot: 1 (singles), 2 (pairs) or 3 (triples)
+    #[arg(long, value_name = "N", default_value_t = 2, value_parser = clap::value_parser!(u8).range(1..=3))]
+    pub parts: u8,
+    /// Build this many boards from the stock (they may use different variants)
+    #[arg(long, value_name = "N", default_value_t = 1, value_parser = clap::value_parser!(u32).range(1..=10000))]
+    pub copies: u32,
+    /// Slots already fitted, kept as they are: R2=3k3,RC=2k2 (prefix a stage number for multi-stage files: 2:RC=2k2)
+    #[arg(long, value_name = "SLOTS")]
+    pub keep: Vec<String>,
+    /// Tolerance assumed for kept parts
+    #[arg(long, value_name = "TOL", default_value = "5%")]
+    pub keep_tolerance: String,
+    /// Power rating assumed for kept parts
+    #[arg(long, value_name = "WATTS", default_value = "0.25W")]
+    pub keep_watts: String,
+    /// Also list the next K best designs of each stage
+    #[arg(long, value_name = "K", default_value_t = 0)]
+    pub alternatives: usize,
+    /// Variants per stage handed to the integer program
+    #[arg(long, value_name = "K", default_value_t = 200, value_parser = clap::value_parser!(u32).range(1..=100000))]
+    pub variants: u32,
+    /// Stop after this many seconds and report the best verified design found
+    #[arg(long, value_name = "S")]
+    pub time_limit: Option<f64>,
+    #[command(flatten)]
+    pub defaults: DefaultArgs,
+    /// Print the report as JSON
+    #[arg(long)]
+    pub json: bool,
+}
+
+/// Reads `--keep` pairs: `SLOT=NETWORK`, with an optional `STAGE:` prefix (a number from 1 or a name).
+fn keeps(
+    design: &Design,
+    args: &DesignArgs,
+) -> Result<Vec<(usize, Slot, biasfit::Network)>, Failure> {
+    let tol = parse_tolerance(&args.keep_tolerance)
+        .map_err(|e| Failure::Input(format!("--keep-tolerance: {e}")))?;
+    let watts =
+        parse_watts(&args.keep_watts).map_err(|e| Failure::Input(format!("--keep-watts: {e}")))?;
+    let mut out = Vec::new();
+    for item in args.keep.iter().flat_map(|k| k.split(',')) {
+        let item = item.trim();
+        if item.is_empty() {
+            continue;
+        }
+        let (target, value) = item.split_once('=').ok_or_else(|| {
+            Failure::Input(format!(
+                "--keep: \"{item}\" is not SLOT=NETWORK; expected pairs such as R2=3k3,RC=2k2"
+            ))
+        })?;
+        let (stage, slot) = match target.split_once(':') {
+            Some((st, sl)) => {
+                let idx = design.stage(st.trim()).map(|s| {
+                    design
+                        .stages
+                        .iter()
+                        .position(|x| std::ptr::eq(x, s))
+                        .expect("a stage of the design")
+                });
+                let idx = idx.ok_or_else(|| {
+                    Failure::Input(format!(
+                        "--keep {item}: no stage \"{st}\"; give a stage number from 1 to {} or its name",
+                        design.stages.len()
+                    ))
+                })?;
+                (idx, sl.trim())
+            }
+            None if design.stages.len() == 1 => (0, target.trim()),
+            None => {
+                return Err(Failure::Input(format!(
+                    "--keep {item}: the file has {} stages; say which, as in 1:{item}",
+                    design.stages.len()
+                )))
+            }
+        };
+        let slot: Slot = slot
+            .parse()
+            .map_err(|e| Failure::Input(format!("--keep: {e}")))?;
+        let net = parse_network(value, tol, watts)
+            .map_err(|e| Failure::Input(format!("--keep {slot}: {e}")))?;
+        out.push((stage, slot, net));
+    }
+    Ok(out)
+}
+
+/// Runs `biasfit design`.
+pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
+    let (design_file, _) = stages(&args.file, None)?;
+    let stock = load_stock(&args.stock, &args.defaults)?;
+    let time_limit = match args.time_limit {
+        None => None,
+        Some(s) if s.is_finite() && s > 0.0 => Some(Duration::from_secs_f64(s)),
+        Some(s) => {
+            return Err(Failure::Input(format!(
+                "--time-limit {s}: expected a number of seconds above 0"
+            )))
+        }
+    };
+    let request = Request {
+        max_parts: args.parts as usize,
+        copies: args.copies,
+        keep: keeps(&design_file, &args)?,
+        variants: args.variants as usize,
+        alternatives: args.alternatives,
+        time_limit,
+        ..Request::default()
+    };
+    let progress = Progress::start("searching");
+    let outcome = design(&design_file, &stock, &request, &mut |p| progress.phase(p));
+    drop(progress);
+    let outcome = match outcome {
+        Ok(o) => o,
+        Err(e @ (DesignError::Infeasible { .. } | DesignError::Scarce(_))) => {
+            return Err(Failure::Infeasible(e.to_string()))
+        }
+        Err(e) => return Err(Failure::Input(e.to_string())),
+    };
+    let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);
+    if args.json {
+        out.json(&report)?;
+    } else {
+        out.text(&render(&report, out.colour()))?;
+    }
+    if report.all_ok() {
+        Ok(())
+    } else {
+        Err(Failure::ChecksFailed)
+    }
+}

@@ -1,0 +1,571 @@
+//! A whole design from stock: candidate networks for every slot, each stage's best variants by the exact
+//! search, then the integer program that shares the stock across stages and boards; plus the hand-rounded
+//! baseline and, when nothing fits, the constraint that binds.
+
+use super::search::{
+    best_variants, Deviations, Effort, Evaluate, Found, Order, GAIN, IC, RC, VCE, VE,
+};
+use super::share::{allocate, ShareError, Variant};
+use crate::network::candidates::{in_window, Candidate};
+use crate::network::{Network, PartId};
+use crate::stage::{Check, Design, Slot, SlotNetworks, SlotValues, Stage, StageError, Topology};
+use crate::stock::Stock;
+use crate::units::Ohms;
+use std::time::{Duration, Instant};
+
+/// What to design, and how hard to look.
+#[derive(Clone, Debug)]
+pub struct Request {
+    /// At most this many resistors per slot (1, 2 or 3).
+    pub max_parts: usize,
+    /// Boards to build.
+    pub copies: u32,
+    /// Slots already fitted: (stage index, slot, network). They are kept as they are and take no stock.
+    pub keep: Vec<(usize, Slot, Network)>,
+    /// Variants generated per stage for the integer program.
+    pub variants: usize,
+    /// Next-best designs to list per stage.
+    pub alternatives: usize,
+    /// Stop searching after this long and return the best verified design found.
+    pub time_limit: Option<Duration>,
+    /// Each slot's candidates lie within this factor of its ideal value.
+    pub window: f64,
+}
+
+impl Default for Request {
+    fn default() -> Self {
+        Request {
+            max_parts: 2,
+            copies: 1,
+            keep: Vec::new(),
+            variants: 200,
+            alternatives: 0,
+            time_limit: None,
+            window: 3.0,
+        }
+    }
+}
+
+/// One stage built one way.
+#[derive(Clone, Debug)]
+pub struct Built {
+    /// Which stage.
+    pub stage: usize,
+    /// Each slot's network.
+    pub networks: SlotNetworks,
+    /// The exact error from the DC solver.
+    pub error: f64,
+    /// Boards built this way.
+    pub copies: u32,
+}
+
+/// How the solve went.
+#[derive(Clone, Debug, PartialEq, serde::Serialize)]
+pub struct SolverInfo {
+    /// Wall-clock seconds for the whole search.
+    pub seconds: f64,
+    /// Variants handed to the integer program, over all stages.
+    pub variants: usize,
+    /// "optimal", or "time limit" when the search was cut short.
+    pub status: String,
+    /// Error evaluations made by the exact search.
+    pub evaluations: u64,
+}
+
+/// The hand-rounded baseline of one stage: each slot at its nearest single stock value.
+#[derive(Clone, Debug)]
+pub struct Baseline {
+    /// Which stage.
+    pub stage: usize,
+    /// The rounded networks (single parts).
+    pub networks: SlotNetworks,
+    /// Its exact error.
+    pub error: f64,
+    /// Whether the stock holds every part it needs for all boards.
+    pub in_stock: bool,
+    /// Whether it meets the hard constraints.
+    pub feasible: bool,
+}
+
+/// A finished design.
+#[derive(Clone, Debug)]
+pub struct Outcome {
+    /// The chosen builds, stage by stage (a stage appears more than once when boards differ).
+    pub built: Vec<Built>,
+    /// Next-best designs per stage, best first.
+    pub alternatives: Vec<Vec<Built>>,
+    /// The baseline per stage.
+    pub baseline: Vec<Baseline>,
+    /// How the solve went.
+    pub solver: SolverInfo,
+}
+
+/// Why no design could be made.
+#[derive(Debug, thiserror::Error)]
+pub enum DesignError {
+    /// A stage has no ideal design (its rule is impossible).
+    #[error(transparent)]
+    Stage(#[from] StageError),
+    /// A kept slot is not one of the stage's slots.
+    #[error("--keep {slot}: stage \"{stage}\" has no slot {slot}; its slots are {slots}")]
+    NoSuchSlot {
+        /// The stage.
+        stage: String,
+        /// The slot asked for.
+        slot: Slot,
+        /// The slots it has.
+        slots: String,
+    },
+    /// No stocked network set meets the hard constraints.
+    #[error("stage \"{stage}\": {reason}")]
+    Infeasible {
+        /// The stage.
+        stage: String,
+        /// What binds, and the closest design.
+        reason: String,
+    },
+    /// The stock cannot cover every board.
+    #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
+    Scarce(String),
+}
+
+/// Each topology's solve order: which slots to enumerate, which to scan, which is the collector slot.
+///
+/// The scan slot is the one the bias deviations (IC, VE) depend on monotonically for fixed outer slots; the
+/// collector slot is the one that moves only VCE, RC/RL and gain while the transistor is active. In collector
+/// feedback RC sits in the bias loop, so it is enumerated instead and RB carries every deviation.
+pub fn solve_order(
+    topology: Topology,
+    slots: &[Slot],
+    ideal: &SlotValues,
+    load: Option<Ohms>,
+) -> Order {
+    let pos = |s: Slot| slots.iter().position(|&x| x == s);
+    let (scan, collector) = match topology {
+        Topology::Divider | Topology::DividerSplit => (Slot::R1, Some(Slot::RC)),
+        Topology::DualSupply | Topology::BaseResistor => (Slot::RB, Some(Slot::RC)),
+        Topology::CollectorFeedback => (Slot::RB, None),
+    };
+    let scan = pos(scan).expect("every topology has its scan slot");
+    let collector = collector.and_then(pos);
+    let outer: Vec<usize> = (0..slots.len())
+        .filter(|&i| i != scan && Some(i) != collector)
+        .collect();
+    // The emitter window needs VE = IE·RE measured from ground, which a dual supply's VE is not.
+    let emitter: Vec<usize> = match topology {
+        Topology::DualSupply => Vec::new(),
+        _ => [Slot::RE, Slot::RE1, Slot::RE2]
+            .into_iter()
+            .filter_map(pos)
+            .collect(),
+    };
+    let emitter_ohms = emitter
+        .iter()
+        .map(|&p| ideal.get(slots[p]).map_or(0.0, |r| r.0))
+        .sum();
+    let centre = slots
+        .iter()
+        .map(|&s| ideal.get(s).unwrap_or(Ohms(1.0)))
+        .collect();
+    Order {
+        outer,
+        scan,
+        collector,
+        emitter,
+        emitter_ohms,
+        centre,
+        collector_target: collector.and(load),
+    }
+}
+
+/// The search's view of one stage.
+struct Model<'a> {
+    stage: &'a Stage,
+    slots: Vec<Slot>,
+}
+
+impl Model<'_> {
+    fn values(&self, v: &[Ohms]) -> SlotValues {
+        let mut sv = SlotValues::new();
+        for (&s, &r) in self.slots.iter().zip(v) {
+            sv.set(s, r);
+        }
+        sv
+    }
+
+    fn networks(&self, picks: &[&Candidate]) -> SlotNetworks {
+        SlotNetworks::from_pairs(
+            self.slots
+                .iter()
+                .copied()
+                .zip(picks.iter().map(|c| c.network.clone())),
+        )
+    }
+}
+
+/// Only the resistor-rating checks decide acceptance here; the others are the electrical ones, already
+/// applied, or the transistor's own limits, which the resistor choice barely moves and which the report shows.
+fn ratings_ok(checks: &[Check]) -> bool {
+    checks.iter().filter(|c| is_resistor_power(c)).all(|c| c.ok)
+}
+
+/// Whether a check is a resistor's dissipation against its derated rating (the stage names them "power R1",
+/// "power R1 part 2 (4k7)"; the transistor's is "transistor power").
+fn is_resistor_power(c: &Check) -> bool {
+    c.name.starts_with("power ")
+}
+
+/// A failed check in words: "stiffness 7.2 (needs ≥ 10)".
+fn describe(c: &Check) -> String {
+    use crate::notation::{engineering, trim_number};
+    use crate::stage::CheckUnit;
+    let show = |x: f64| match c.unit {
+        CheckUnit::Ratio => trim_number(x, 3),
+        CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
+        CheckUnit::Amps => engineering(x, "A"),
+        CheckUnit::Volts => engineering(x, "V"),
+        CheckUnit::Watts => engineering(x, "W"),
+    };
+    let op = if c.at_least { "≥" } else { "≤" };
+    format!(
+        "{} {} (needs {op} {})",
+        c.name,
+        show(c.value),
+        show(c.limit)
+    )
+}
+
+impl Evaluate for Model<'_> {
+    fn deviations(&self, v: &[Ohms]) -> Deviations {
+        let d = self.stage.deviations(&self.values(v));
+        let mut out = [f64::NAN; 5];
+        out[IC] = d.ic;
+        out[VCE] = d.vce;
+        out[VE] = d.ve.unwrap_or(f64::NAN);
+        out[RC] = d.rc.unwrap_or(f64::NAN);
+        out[GAIN] = d.gain.unwrap_or(f64::NAN);
+        out
+    }
+    fn electrical_ok(&self, v: &[Ohms]) -> bool {
+        self.stage.electrical_ok(&self.values(v))
+    }
+    fn accept(&self, picks: &[&Candidate]) -> bool {
+        ratings_ok(&self.stage.checks(&self.networks(picks)))
+    }
+}
+
+/// A relaxed view that accepts everything: it finds the closest design when nothing meets the constraints.
+struct Relaxed<'a>(&'a Model<'a>);
+
+impl Evaluate for Relaxed<'_> {
+    fn deviations(&self, v: &[Ohms]) -> Deviations {
+        self.0.deviations(v)
+    }
+    fn electrical_ok(&self, _: &[Ohms]) -> bool {
+        true
+    }
+    fn accept(&self, _: &[&Candidate]) -> bool {
+        true
+    }
+}
+
+/// A kept network as a candidate: it is on the board already, so it takes nothing from stock.
+fn kept(network: &Network) -> Candidate {
+    Candidate {
+        ohms: network.ohms(),
+        uses: Vec::new(),
+        parts: network.part_count(),
+        band: network.band(),
+        left: 0,
+        network: network.clone(),
+    }
+}
+
+/// One stage's slots, their candidate lists, and the variants the search found.
+type Searched = (Vec<Slot>, Vec<Vec<Candidate>>, Vec<Found>);
+
+/// Designs every stage of `design` from `stock`.
+pub fn design(
+    design: &Design,
+    stock: &Stock,
+    request: &Request,
+    progress: &mut dyn FnMut(&str),
+) -> Result<Outcome, DesignError> {
+    let started = Instant::now();
+    let on_hand: Vec<u32> = stock.parts.iter().map(|p| p.qty).collect();
+    let mut variants: Vec<Variant> = Vec::new();
+    let mut found_per_stage: Vec<Searched> = Vec::new();
+    let mut baseline = Vec::new();
+    let mut evaluations = 0u64;
+    let mut cut_short = false;
+    for (si, stage) in design.stages.iter().enumerate() {
+        progress(&format!(
+            "stage {} of {}: {}",
+            si + 1,
+            design.stages.len(),
+            stage.name
+        ));
+        let ideal = stage.ideal()?;
+        let slots = stage.slots();
+        for (ks, slot, _) in &request.keep {
+            if *ks == si && !slots.contains(slot) {
+                return Err(DesignError::NoSuchSlot {
+                    stage: stage.name.clone(),
+                    slot: *slot,
+                    slots: slots
+                        .iter()
+                        .map(|s| s.to_string())
+                        .collect::<Vec<_>>()
+                        .join(", "),
+                });
+            }
+        }
+        let candidates: Vec<Vec<Candidate>> = slots
+            .iter()
+            .map(|&s| {
+                if let Some((_, _, n)) = request
+                    .keep
+                    .iter()
+                    .find(|(ks, ksl, _)| *ks == si && *ksl == s)
+                {
+                    return vec![kept(n)];
+                }
+                let x = ideal
+                    .values
+                    .get(s)
+                    .expect("the ideal design sets every slot");
+                in_window(
+                    stock,
+                    request.max_parts,
+                    x / request.window,
+                    x * request.window,
+                )
+            })
+            .collect();
+        let model = Model {
+            stage,
+            slots: slots.clone(),
+        };
+        baseline.push(baseline_of(
+            si,
+            &model,
+            stock,
+            &ideal.values,
+            request.copies,
+        ));
+        if let Some(empty) = slots.iter().zip(&candidates).find(|(_, c)| c.is_empty()) {
+            return Err(DesignError::Infeasible {
+                stage: stage.name.clone(),
+                reason: format!(
+                    "the stock has nothing within a factor {} of the ideal {} = {}; see `biasfit order` for a shopping list",
+                    request.window,
+                    empty.0,
+                    crate::notation::code(ideal.values.get(*empty.0).unwrap_or(Ohms(1.0)))
+                ),
+            });
+        }
+        let order = solve_order(stage.topology, &slots, &ideal.values, stage.targets().rc);
+        let k = request.variants.max(request.alternatives + 1);
+        let (found, effort): (Vec<Found>, Effort) =
+            best_variants(&model, &order, &candidates, k, &on_hand);
+        evaluations += effort.evaluations;
+        if found.is_empty() {
+            return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
+        }
+        for f in &found {
+            variants.push(Variant {
+                stage: si,
+                error: f.error,
+                parts: f.parts,
+                uses: f.uses.clone(),
+            });
+        }
+        found_per_stage.push((slots, candidates, found));
+        if request.time_limit.is_some_and(|l| started.elapsed() >= l)
+            && si + 1 < design.stages.len()
+        {
+            cut_short = true;
+        }
+    }
+    progress("sharing the stock");
+    let remaining = request
+        .time_limit
+        .map(|l| l.saturating_sub(started.elapsed()));
+    let allocation = match allocate(&variants, design.stages.len(), request.copies, &on_hand, remaining) {
+        Ok(a) => a,
+        Err(ShareError::Scarce { copies }) => {
+            return Err(DesignError::Scarce(format!(
+                "the stock cannot build {copies} board(s): the {} best variants of each stage together need more parts than are on hand",
+                request.variants
+            )))
+        }
+        Err(e) => return Err(DesignError::Scarce(e.to_string())),
+    };
+    // Map the flat variant list back to (stage, found index).
+    let mut offsets = Vec::new();
+    let mut at = 0;
+    for (_, _, found) in &found_per_stage {
+        offsets.push(at);
+        at += found.len();
+    }
+    let to_built = |si: usize, f: &Found, copies: u32| -> Built {
+        let (slots, candidates, _) = &found_per_stage[si];
+        let networks = SlotNetworks::from_pairs(
+            slots
+                .iter()
+                .enumerate()
+                .map(|(p, &s)| (s, candidates[p][f.picks[p]].network.clone())),
+        );
+        // The reported error is always the DC solver's, recomputed on the final networks.
+        let error = design.stages[si].error(&networks.values());
+        Built {
+            stage: si,
+            networks,
+            error,
+            copies,
+        }
+    };
+    let mut built = Vec::new();
+    for &(vi, copies) in &allocation.chosen {
+        let si = variants[vi].stage;
+        let fi = vi - offsets[si];
+        built.push(to_built(si, &found_per_stage[si].2[fi], copies));
+    }
+    built.sort_by_key(|b| b.stage);
+    let alternatives = (0..design.stages.len())
+        .map(|si| {
+            let chosen: Vec<usize> = allocation
+                .chosen
+                .iter()
+                .filter(|(vi, _)| variants[*vi].stage == si)
+                .map(|(vi, _)| vi - offsets[si])
+                .collect();
+            found_per_stage[si]
+                .2
+                .iter()
+                .enumerate()
+                .filter(|(fi, _)| !chosen.contains(fi))
+                .take(request.alternatives)
+                .map(|(_, f)| to_built(si, f, 0))
+                .collect()
+        })
+        .collect();
+    let proven = allocation.proven && !cut_short;
+    Ok(Outcome {
+        built,
+        alternatives,
+        baseline,
+        solver: SolverInfo {
+            seconds: started.elapsed().as_secs_f64(),
+            variants: variants.len(),
+            status: if proven { "optimal" } else { "time limit" }.to_string(),
+            evaluations,
+        },
+    })
+}
+
+/// Rounds each slot to the single stock value nearest its ideal (in ratio), the way it is done by hand.
+fn baseline_of(
+    si: usize,
+    model: &Model,
+    stock: &Stock,
+    ideal: &SlotValues,
+    copies: u32,
+) -> Baseline {
+    let mut need: std::collections::BTreeMap<PartId, u32> = std::collections::BTreeMap::new();
+    let pairs: Vec<(Slot, Network)> = model
+        .slots
+        .iter()
+        .map(|&s| {
+            let x = ideal.get(s).expect("ideal sets every slot");
+            let (id, part) = stock
+                .parts
+                .iter()
+                .enumerate()
+                .filter(|(_, p)| p.qty > 0)
+                .min_by(|(_, a), (_, b)| {
+                    (a.ohms.0 / x.0)
+                        .ln()
+                        .abs()
+                        .total_cmp(&(b.ohms.0 / x.0).ln().abs())
+                })
+                .expect("a stock with parts");
+            *need.entry(id).or_default() += copies;
+            let member = crate::network::Member {
+                ohms: part.ohms,
+                tolerance: part.tolerance,
+                power: part.power,
+                location: part.location(),
+                part: Some(id),
+            };
+            (s, Network::Single(member))
+        })
+        .collect();
+    let networks = SlotNetworks::from_pairs(pairs);
+    let values = networks.values();
+    let in_stock = need.iter().all(|(&p, &n)| stock.parts[p].qty >= n);
+    let feasible = model.stage.electrical_ok(&values) && ratings_ok(&model.stage.checks(&networks));
+    Baseline {
+        stage: si,
+        error: model.stage.error(&values),
+        networks,
+        in_stock,
+        feasible,
+    }
+}
+
+/// Names the binding constraint: the closest design ignoring the hard constraints, and the checks it fails.
+fn infeasible(
+    stage: &Stage,
+    model: &Model,
+    order: &Order,
+    candidates: &[Vec<Candidate>],
+    on_hand: &[u32],
+) -> DesignError {
+    let relaxed = Relaxed(model);
+    let unlimited = vec![u32::MAX; on_hand.len()];
+    let (closest, _) = best_variants(&relaxed, order, candidates, 1, &unlimited);
+    let reason = match closest.first() {
+        None => "no stocked network comes within reach of the targets".to_string(),
+        Some(f) => {
+            let picks: Vec<&Candidate> = f
+                .picks
+                .iter()
+                .enumerate()
+                .map(|(p, &i)| &candidates[p][i])
+                .collect();
+            let nets = model.networks(&picks);
+            let failing: Vec<String> = stage
+                .checks(&nets)
+                .into_iter()
+                .filter(|c| !c.ok)
+                .map(|c| describe(&c))
+                .collect();
+            let short = f.uses.iter().any(|&(p, n)| on_hand[p] < n);
+            let mut why = if failing.is_empty() && short {
+                "no stocked network set meets the hard constraints with the parts on hand (the closest needs the same part in two slots)".to_string()
+            } else {
+                format!(
+                    "no stocked network set meets the hard constraints; binding: {}",
+                    failing.join("; ")
+                )
+            };
+            why.push_str(&format!(
+                ". Closest: {} (error {:.2} %). Widen the stock with `biasfit order`",
+                model
+                    .slots
+                    .iter()
+                    .zip(&picks)
+                    .map(|(s, c)| format!("{s}={}", c.network.notation()))
+                    .collect::<Vec<_>>()
+                    .join(","),
+                f.error * 100.0
+            ));
+            why
+        }
+    };
+    DesignError::Infeasible {
+        stage: stage.name.clone(),
+        reason,
+    }
+}

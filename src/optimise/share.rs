@@ -1,0 +1,480 @@
+//! The integer program that shares the stock between stages and boards: given each stage's best variants
+//! (complete slot assignments with their exact errors), choose how many copies of each variant to build so
+//! that every board is complete, the parts never run out, the largest error is as small as it can be, and then
+//! the sum of errors (plus a small penalty per part) is smallest.
+//!
+//! This is the only place biasfit talks to good_lp. The model is small (one integer per variant) because the
+//! physics has already been handled exactly by the per-stage search; the integer program only does the
+//! bookkeeping of shared parts, which is where it shines.
+
+use crate::network::PartId;
+use good_lp::{
+    constraint, microlp, variable, Expression, ProblemVariables, ResolutionError, Solution,
+    SolutionStatus, SolverModel, Variable, WithTimeLimit,
+};
+use std::collections::BTreeMap;
+use std::time::{Duration, Instant};
+
+/// One way to build one stage: its exact error and the stock parts it takes.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Variant {
+    /// Which stage (index into the design's stages).
+    pub stage: usize,
+    /// The exact stage error (the largest relative deviation at typical beta).
+    pub error: f64,
+    /// Resistors it uses, counted for the per-part penalty.
+    pub parts: usize,
+    /// The stock parts it takes, with counts, for one board.
+    pub uses: Vec<(PartId, u32)>,
+}
+
+/// The chosen copies of each variant.
+#[derive(Clone, Debug, PartialEq)]
+pub struct Allocation {
+    /// (variant index, copies), only variants with at least one copy, in variant order.
+    pub chosen: Vec<(usize, u32)>,
+    /// The largest error among the chosen variants.
+    pub worst: f64,
+    /// The sum of errors over every stage of every board.
+    pub sum: f64,
+    /// Whether the result is proven optimal (false when the time limit cut the search short).
+    pub proven: bool,
+}
+
+/// Why no allocation exists.
+#[derive(Clone, Debug, PartialEq, thiserror::Error)]
+pub enum ShareError {
+    /// A stage has no variant at all.
+    #[error("stage {0} has no variant that meets the hard constraints")]
+    NoVariant(usize),
+    /// The stock cannot cover the boards with the variants offered.
+    #[error("the stock cannot build {copies} board(s) from the variants found")]
+    Scarce {
+        /// Boards asked for.
+        copies: u32,
+    },
+    /// The time limit passed before any allocation was found.
+    #[error("the time limit passed before the stock could be shared out")]
+    TimedOut,
+    /// The solver failed in an unexpected way.
+    #[error("the solver failed: {0}")]
+    Solver(String),
+}
+
+/// The penalty added to a variant's error for each resistor it uses, so that between two equally good
+/// variants the one with fewer parts wins; far below any error a user would notice.
+pub const PART_PENALTY: f64 = 1e-7;
+
+/// Errors closer than this are equal for the purposes of the worst-error bound.
+const ERROR_EPSILON: f64 = 1e-12;
+
+/// Shares `stock` (pieces on hand by part id) among `copies` boards of `stages` stages.
+pub fn allocate(
+    variants: &[Variant],
+    stages: usize,
+    copies: u32,
+    stock: &[u32],
+    time_limit: Option<Duration>,
+) -> Result<Allocation, ShareError> {
+    for s in 0..stages {
+        if !variants.iter().any(|v| v.stage == s) {
+            return Err(ShareError::NoVariant(s));
+        }
+    }
+    if copies == 0 {
+        return Ok(Allocation {
+            chosen: Vec::new(),
+            worst: 0.0,
+            sum: 0.0,
+            proven: true,
+        });
+    }
+    // Fast path: each stage's own best variant, all copies alike, if the stock covers it, is optimal in both
+    // the worst error and the sum, since no stage can do better than its own best.
+    let best: Vec<usize> = (0..stages)
+        .map(|s| {
+            (0..variants.len())
+                .filter(|&i| variants[i].stage == s)
+                .min_by(|&a, &b| cost(&variants[a]).total_cmp(&cost(&variants[b])))
+                .expect("checked above")
+        })
+        .collect();
+    let picked: Vec<(usize, u32)> = best.iter().map(|&i| (i, copies)).collect();
+    if fits(variants, &picked, stock) {
+        return Ok(summarise(variants, picked, true));
+    }
+
+    // The worst cost is the cost of some variant: search the smallest feasible threshold among them.
+    let mut thresholds: Vec<f64> = variants.iter().map(cost).collect();
+    thresholds.sort_by(f64::total_cmp);
+    thresholds.dedup_by(|a, b| (*a - *b).abs() <= ERROR_EPSILON);
+    // No stage can do better than its best variant.
+    let floor = best.iter().map(|&i| cost(&variants[i])).fold(0.0, f64::max);
+    thresholds.retain(|&t| t >= floor - ERROR_EPSILON);
+
+    let started = Instant::now();
+    let remaining = |limit: Option<Duration>| limit.map(|l| l.saturating_sub(started.elapsed()));
+    // Is everything (the largest threshold) feasible at all?
+    let top = *thresholds.last().expect("at least one variant");
+    let mut best_found = match solve(variants, stages, copies, stock, top, remaining(time_limit))? {
+        Some(a) => a,
+        None => return Err(ShareError::Scarce { copies }),
+    };
+    let (mut lo, mut hi) = (0usize, thresholds.len() - 1);
+    // Invariant: thresholds[hi] is feasible; everything below lo is infeasible.
+    while lo < hi {
+        if time_limit.is_some_and(|l| started.elapsed() >= l) {
+            best_found.proven = false;
+            break;
+        }
+        let mid = (lo + hi) / 2;
+        match solve(
+            variants,
+            stages,
+            copies,
+            stock,
+            thresholds[mid],
+            remaining(time_limit),
+        )? {
+            Some(a) => {
+                hi = mid;
+                let proven = best_found.proven && a.proven;
+                best_found = Allocation { proven, ..a };
+            }
+            None => lo = mid + 1,
+        }
+    }
+    // The allocation at the final threshold minimises the sum among those with that worst error.
+    Ok(best_found)
+}
+
+/// A variant's error with the per-part penalty: what the program minimises, so that of two variants equally
+/// good to within the penalty the one with fewer parts wins.
+fn cost(v: &Variant) -> f64 {
+    v.error + PART_PENALTY * v.parts as f64
+}
+
+fn fits(variants: &[Variant], chosen: &[(usize, u32)], stock: &[u32]) -> bool {
+    let mut need: BTreeMap<PartId, u64> = BTreeMap::new();
+    for &(i, n) in chosen {
+        for &(p, c) in &variants[i].uses {
+            *need.entry(p).or_default() += c as u64 * n as u64;
+        }
+    }
+    need.iter()
+        .all(|(&p, &n)| stock.get(p).is_some_and(|&q| n <= q as u64))
+}
+
+fn summarise(variants: &[Variant], mut chosen: Vec<(usize, u32)>, proven: bool) -> Allocation {
+    chosen.sort_unstable();
+    let worst = chosen
+        .iter()
+        .map(|&(i, _)| variants[i].error)
+        .fold(0.0, f64::max);
+    let sum = chosen
+        .iter()
+        .map(|&(i, n)| variants[i].error * n as f64)
+        .sum();
+    Allocation {
+        chosen,
+        worst,
+        sum,
+        proven,
+    }
+}
+
+/// The allocation with the smallest sum that uses only variants with error ≤ `threshold`, if any.
+fn solve(
+    variants: &[Variant],
+    stages: usize,
+    copies: u32,
+    stock: &[u32],
+    threshold: f64,
+    time_limit: Option<Duration>,
+) -> Result<Option<Allocation>, ShareError> {
+    let allowed: Vec<usize> = (0..variants.len())
+        .filter(|&i| cost(&variants[i]) <= threshold + ERROR_EPSILON)
+        .collect();
+    for s in 0..stages {
+        if !allowed.iter().any(|&i| variants[i].stage == s) {
+            return Ok(None);
+        }
+    }
+    let mut problem = ProblemVariables::new();
+    let x: Vec<Variable> = allowed
+        .iter()
+        .map(|_| problem.add(variable().integer().min(0).max(copies as f64)))
+        .collect();
+    let objective: Expression = allowed
+        .iter()
+        .zip(&x)
+        .map(|(&i, &xi)| cost(&variants[i]) * xi)
+        .sum();
+    let mut model = problem.minimise(objective).using(microlp);
+    if let Some(limit) = time_limit {
+        model = model.with_time_limit(limit.as_secs_f64().max(0.01));
+    }
+    for s in 0..stages {
+        let boards: Expression = allowed
+            .iter()
+            .zip(&x)
+            .filter(|(&i, _)| variants[i].stage == s)
+            .map(|(_, &xi)| xi)
+            .sum();
+        model = model.with(constraint!(boards == copies as f64));
+    }
+    let mut per_part: BTreeMap<PartId, Expression> = BTreeMap::new();
+    for (&i, &xi) in allowed.iter().zip(&x) {
+        for &(p, c) in &variants[i].uses {
+            *per_part.entry(p).or_default() += c as f64 * xi;
+        }
+    }
+    for (p, used) in per_part {
+        let on_hand = stock.get(p).copied().unwrap_or(0) as f64;
+        model = model.with(constraint!(used <= on_hand));
+    }
+    let solution = match model.solve() {
+        Ok(s) => s,
+        Err(ResolutionError::Infeasible) => return Ok(None),
+        Err(ResolutionError::Other(msg)) if msg.contains("Time limit") => {
+            return Err(ShareError::TimedOut)
+        }
+        Err(e) => return Err(ShareError::Solver(e.to_string())),
+    };
+    let proven = matches!(solution.status(), SolutionStatus::Optimal);
+    let chosen: Vec<(usize, u32)> = allowed
+        .iter()
+        .zip(&x)
+        .filter_map(|(&i, &xi)| {
+            let n = solution.value(xi).round();
+            (n >= 1.0).then_some((i, n as u32))
+        })
+        .collect();
+    // The solver works in floating point: verify its answer exactly before trusting it.
+    let complete = (0..stages).all(|s| {
+        chosen
+            .iter()
+            .filter(|&&(i, _)| variants[i].stage == s)
+            .map(|&(_, n)| n)
+            .sum::<u32>()
+            == copies
+    });
+    if !complete || !fits(variants, &chosen, stock) {
+        return Err(ShareError::Solver(
+            "the solver returned an allocation that does not check out".into(),
+        ));
+    }
+    Ok(Some(summarise(variants, chosen, proven)))
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    /// A tiny deterministic generator (SplitMix64) so that random cases repeat exactly.
+    struct Rng(u64);
+    impl Rng {
+        fn next(&mut self) -> u64 {
+            self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
+            let mut z = self.0;
+            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
+            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
+            z ^ (z >> 31)
+        }
+        fn below(&mut self, n: u64) -> u64 {
+            self.next() % n
+        }
+    }
+
+    /// Every way to give each of `copies` boards one variant per stage, by brute force.
+    fn exhaustive(
+        variants: &[Variant],
+        stages: usize,
+        copies: u32,
+        stock: &[u32],
+    ) -> Option<(f64, f64)> {
+        let per_stage: Vec<Vec<usize>> = (0..stages)
+            .map(|s| {
+                (0..variants.len())
+                    .filter(|&i| variants[i].stage == s)
+                    .collect()
+            })
+            .collect();
+        let slots = stages * copies as usize;
+        let mut pick = vec![0usize; slots];
+        let mut best: Option<(f64, f64)> = None;
+        loop {
+            let chosen: Vec<(usize, u32)> = pick
+                .iter()
+                .enumerate()
+                .map(|(k, &j)| (per_stage[k % stages][j], 1))
+                .collect();
+            if fits(variants, &chosen, stock) {
+                let worst = chosen
+                    .iter()
+                    .map(|&(i, _)| cost(&variants[i]))
+                    .fold(0.0, f64::max);
+                let sum: f64 = chosen.iter().map(|&(i, _)| cost(&variants[i])).sum();
+                let better = match best {
+                    None => true,
+                    Some((w, s)) => {
+                        worst < w - 1e-12 || ((worst - w).abs() <= 1e-12 && sum < s - 1e-12)
+                    }
+                };
+                if better {
+                    best = Some((worst, sum));
+                }
+            }
+            // Odometer over every pick.
+            let mut k = 0;
+            loop {
+                if k == slots {
+                    return best;
+                }
+                pick[k] += 1;
+                if pick[k] < per_stage[k % stages].len() {
+                    break;
+                }
+                pick[k] = 0;
+                k += 1;
+            }
+        }
+    }
+
+    #[test]
+    fn equals_exhaustive_search_on_random_small_cases() {
+        let mut rng = Rng(2026);
+        let mut checked = 0;
+        for case in 0..120 {
+            let stages = 1 + rng.below(2) as usize;
+            let copies = 1 + rng.below(3) as u32;
+            let parts = 3 + rng.below(4) as usize;
+            let stock: Vec<u32> = (0..parts).map(|_| rng.below(5) as u32).collect();
+            let mut variants = Vec::new();
+            for s in 0..stages {
+                for _ in 0..(2 + rng.below(4)) {
+                    let mut uses: Vec<(PartId, u32)> = Vec::new();
+                    for p in 0..parts {
+                        if rng.below(3) == 0 {
+                            uses.push((p, 1 + rng.below(2) as u32));
+                        }
+                    }
+                    let n = uses.iter().map(|u| u.1 as usize).sum();
+                    variants.push(Variant {
+                        stage: s,
+                        error: rng.below(1000) as f64 / 10_000.0,
+                        parts: n,
+                        uses,
+                    });
+                }
+            }
+            let want = exhaustive(&variants, stages, copies, &stock);
+            let got = allocate(&variants, stages, copies, &stock, None);
+            match (want, got) {
+                (None, Err(ShareError::Scarce { .. })) => {}
+                (Some((w, s)), Ok(a)) => {
+                    checked += 1;
+                    let got_worst = a
+                        .chosen
+                        .iter()
+                        .map(|&(i, _)| cost(&variants[i]))
+                        .fold(0.0, f64::max);
+                    assert!(
+                        (got_worst - w).abs() < 1e-9,
+                        "case {case}: worst {got_worst} vs {w}"
+                    );
+                    let got_sum: f64 = a
+                        .chosen
+                        .iter()
+                        .map(|&(i, n)| cost(&variants[i]) * n as f64)
+                        .sum();
+                    assert!(
+                        (got_sum - s).abs() < 1e-9,
+                        "case {case}: sum {got_sum} vs {s}"
+                    );
+                    assert!(fits(&variants, &a.chosen, &stock));
+                    assert!(a.proven);
+                }
+                (w, g) => panic!("case {case}: exhaustive {w:?} but allocate {g:?}"),
+            }
+        }
+        assert!(
+            checked > 30,
+            "too few feasible cases ({checked}) to mean anything"
+        );
+    }
+
+    #[test]
+    fn two_stages_split_a_scarce_part() {
+        // One 4k7 on hand (part 0); both stages like it best, each has a worse alternative with part 1 or 2.
+        let variants = vec![
+            Variant {
+                stage: 0,
+                error: 0.001,
+                parts: 1,
+                uses: vec![(0, 1)],
+            },
+            Variant {
+                stage: 0,
+                error: 0.020,
+                parts: 1,
+                uses: vec![(1, 1)],
+            },
+            Variant {
+                stage: 1,
+                error: 0.002,
+                parts: 1,
+                uses: vec![(0, 1)],
+            },
+            Variant {
+                stage: 1,
+                error: 0.010,
+                parts: 1,
+                uses: vec![(2, 1)],
+            },
+        ];
+        let a = allocate(&variants, 2, 1, &[1, 5, 5], None).unwrap();
+        // Giving the 4k7 to stage 1 leaves stage 0 at 2 %; giving it to stage 0 leaves stage 1 at 1 %: the
+        // smaller worst error wins.
+        assert_eq!(a.chosen, vec![(0, 1), (3, 1)]);
+        assert!((a.worst - 0.010).abs() < 1e-12);
+    }
+
+    #[test]
+    fn copies_may_use_different_variants() {
+        let variants = vec![
+            Variant {
+                stage: 0,
+                error: 0.001,
+                parts: 2,
+                uses: vec![(0, 2)],
+            },
+            Variant {
+                stage: 0,
+                error: 0.004,
+                parts: 2,
+                uses: vec![(1, 2)],
+            },
+        ];
+        let a = allocate(&variants, 1, 3, &[4, 10], None).unwrap();
+        assert_eq!(a.chosen, vec![(0, 2), (1, 1)]);
+        assert!(matches!(
+            allocate(&variants, 1, 8, &[4, 10], None),
+            Err(ShareError::Scarce { copies: 8 })
+        ));
+    }
+
+    #[test]
+    fn a_stage_without_variants_is_named() {
+        let variants = vec![Variant {
+            stage: 0,
+            error: 0.0,
+            parts: 1,
+            uses: vec![],
+        }];
+        assert_eq!(
+            allocate(&variants, 2, 1, &[], None),
+            Err(ShareError::NoVariant(1))
+        );
+    }
+}

@@ -1,0 +1,294 @@
+//! The design report: the stage objects of the chosen builds, plus the pick list, the hand-rounded baseline
+//! and how the solver went; the struct is the `design --json` schema, and [`render`] its text form.
+//!
+//! The JSON extends the stage-model contract: `{"stages":[stage object + "copies"], "pick":[{"ohms","count",
+//! "location","tolerance","power"}], "baseline":{"error", "stages":[…]}, "solver":{"seconds","variants",
+//! "status"}, "copies", "alternatives":[…], "cautions":[…]}`.
+
+use super::{table, Report, StageReport};
+use crate::notation::{code, engineering, trim_number};
+use crate::optimise::design::{Baseline, Built, Outcome, SolverInfo};
+use crate::stage::Design;
+use crate::stock::Stock;
+use serde::Serialize;
+use std::collections::BTreeMap;
+use std::fmt::Write;
+
+/// A chosen build of one stage, with how many boards use it.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct BuiltStage {
+    /// The stage object, as `check --json` writes it.
+    #[serde(flatten)]
+    pub stage: StageReport,
+    /// Boards built this way.
+    pub copies: u32,
+}
+
+/// One line of the pick list: what to pull from the drawer.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct PickLine {
+    /// Nominal resistance, ohms.
+    pub ohms: f64,
+    /// Pieces to pull, for all boards.
+    pub count: u32,
+    /// Where it is.
+    pub location: Option<String>,
+    /// Tolerance (fraction).
+    pub tolerance: f64,
+    /// Power rating, watts.
+    pub power: f64,
+}
+
+/// The hand-rounded baseline of one stage.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct BaselineStage {
+    /// The stage's name.
+    pub name: String,
+    /// Its exact error.
+    pub error: f64,
+    /// Whether the stock holds its parts for every board.
+    pub in_stock: bool,
+    /// Whether it meets the hard constraints.
+    pub feasible: bool,
+    /// Each slot's rounded value (letter code).
+    pub slots: BTreeMap<String, String>,
+}
+
+/// The baseline over the whole design.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct BaselineReport {
+    /// The largest baseline error over the stages.
+    pub error: f64,
+    /// Per stage.
+    pub stages: Vec<BaselineStage>,
+}
+
+/// A next-best design of one stage.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct Alternative {
+    /// The stage's name.
+    pub stage: String,
+    /// Its exact error.
+    pub error: f64,
+    /// Each slot's network in the `--use` notation.
+    pub slots: BTreeMap<String, String>,
+}
+
+/// Everything `biasfit design` found.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct DesignReport {
+    /// The chosen builds, in stage order.
+    pub stages: Vec<BuiltStage>,
+    /// Boards the design is for.
+    pub copies: u32,
+    /// What to pull from stock, for all boards.
+    pub pick: Vec<PickLine>,
+    /// Each slot rounded to its nearest single stock value, the way it is done by hand.
+    pub baseline: BaselineReport,
+    /// Next-best designs, per stage.
+    pub alternatives: Vec<Alternative>,
+    /// How the solve went.
+    pub solver: SolverInfo,
+    /// Safety cautions that apply.
+    pub cautions: Vec<String>,
+}
+
+fn slot_codes(design: &Design, b: &Built) -> BTreeMap<String, String> {
+    design.stages[b.stage]
+        .slots()
+        .into_iter()
+        .filter_map(|s| b.networks.get(s).map(|n| (s.to_string(), n.notation())))
+        .collect()
+}
+
+impl DesignReport {
+    /// Builds the report of a finished design.
+    pub fn new(design: &Design, stock: &Stock, outcome: &Outcome, copies: u32) -> DesignReport {
+        let stages: Vec<BuiltStage> = outcome
+            .built
+            .iter()
+            .map(|b| BuiltStage {
+                stage: StageReport::new(&design.stages[b.stage], &b.networks),
+                copies: b.copies,
+            })
+            .collect();
+        let mut counts: BTreeMap<usize, u32> = BTreeMap::new();
+        for b in &outcome.built {
+            for (_, net) in b.networks.iter() {
+                for m in net.members() {
+                    if let Some(p) = m.part {
+                        *counts.entry(p).or_default() += b.copies;
+                    }
+                }
+            }
+        }
+        let mut pick: Vec<PickLine> = counts
+            .into_iter()
+            .map(|(p, count)| {
+                let part = &stock.parts[p];
+                PickLine {
+                    ohms: part.ohms.0,
+                    count,
+                    location: part.location(),
+                    tolerance: part.tolerance.0,
+                    power: part.power.0,
+                }
+            })
+            .collect();
+        pick.sort_by(|a, b| a.location.cmp(&b.location).then(a.ohms.total_cmp(&b.ohms)));
+        let baseline_stage = |b: &Baseline| BaselineStage {
+            name: design.stages[b.stage].name.clone(),
+            error: b.error,
+            in_stock: b.in_stock,
+            feasible: b.feasible,
+            slots: design.stages[b.stage]
+                .slots()
+                .into_iter()
+                .filter_map(|s| b.networks.get(s).map(|n| (s.to_string(), n.notation())))
+                .collect(),
+        };
+        let base: Vec<BaselineStage> = outcome.baseline.iter().map(baseline_stage).collect();
+        let cautions = Report::new(stages.iter().map(|s| s.stage.clone()).collect()).cautions;
+        DesignReport {
+            baseline: BaselineReport {
+                error: base.iter().map(|b| b.error).fold(0.0, f64::max),
+                stages: base,
+            },
+            alternatives: outcome
+                .alternatives
+                .iter()
+                .flatten()
+                .map(|b| Alternative {
+                    stage: design.stages[b.stage].name.clone(),
+                    error: b.error,
+                    slots: slot_codes(design, b),
+                })
+                .collect(),
+            stages,
+            copies,
+            pick,
+            solver: outcome.solver.clone(),
+            cautions,
+        }
+    }
+
+    /// Whether every check of every chosen build passed.
+    pub fn all_ok(&self) -> bool {
+        self.stages
+            .iter()
+            .all(|s| s.stage.checks.iter().all(|c| c.ok))
+    }
+}
+
+fn percent(x: f64) -> String {
+    format!("{} %", trim_number(x * 100.0, 3))
+}
+
+/// The design report as text for people: a build sheet per stage, the baseline beside it, the pick list.
+pub fn render(r: &DesignReport, colour: bool) -> String {
+    let mut out = String::new();
+    for (i, s) in r.stages.iter().enumerate() {
+        if i > 0 {
+            out.push('\n');
+        }
+        let single = Report {
+            stages: vec![s.stage.clone()],
+            cautions: Vec::new(),
+        };
+        let sheet = table::render_check(&single, colour);
+        out.push_str(&sheet);
+        if r.copies > 1 {
+            let _ = writeln!(
+                out,
+                "  built this way on {} of {} boards",
+                s.copies, r.copies
+            );
+        }
+        if let Some(b) = r.baseline.stages.iter().find(|b| b.name == s.stage.name) {
+            let parts: Vec<String> = b.slots.iter().map(|(k, v)| format!("{k}={v}")).collect();
+            let _ = writeln!(
+                out,
+                "\n  rounded by hand ({}): error {}{}{}",
+                parts.join(","),
+                percent(b.error),
+                if b.in_stock {
+                    ""
+                } else {
+                    ", parts not all in stock"
+                },
+                if b.feasible {
+                    ""
+                } else {
+                    ", fails a hard constraint"
+                },
+            );
+            let _ = writeln!(
+                out,
+                "  biasfit's choice:   error {}",
+                percent(s.stage.error)
+            );
+        }
+    }
+    if !r.alternatives.is_empty() {
+        let _ = writeln!(out, "\nnext-best designs");
+        let width = r
+            .alternatives
+            .iter()
+            .map(|a| a.stage.len())
+            .max()
+            .unwrap_or(5)
+            .max(5);
+        let _ = writeln!(out, "  {:<width$}  {:>8}  slots", "stage", "error");
+        for a in &r.alternatives {
+            let slots: Vec<String> = a.slots.iter().map(|(k, v)| format!("{k}={v}")).collect();
+            let _ = writeln!(
+                out,
+                "  {:<width$}  {:>8}  {}",
+                a.stage,
+                percent(a.error),
+                slots.join(",")
+            );
+        }
+    }
+    let _ = writeln!(
+        out,
+        "\npick list ({} board{})",
+        r.copies,
+        if r.copies == 1 { "" } else { "s" }
+    );
+    let locw = r
+        .pick
+        .iter()
+        .map(|p| p.location.as_deref().unwrap_or("-").chars().count())
+        .max()
+        .unwrap_or(8)
+        .max(8);
+    let _ = writeln!(
+        out,
+        "  {:<locw$}  {:>7}  {:>5}  {:>7}  {:>5}",
+        "location", "value", "tol", "power", "count"
+    );
+    for p in &r.pick {
+        let _ = writeln!(
+            out,
+            "  {:<locw$}  {:>7}  {:>5}  {:>7}  {:>5}",
+            p.location.as_deref().unwrap_or("-"),
+            code(crate::units::Ohms(p.ohms)),
+            percent(p.tolerance),
+            engineering(p.power, "W"),
+            p.count
+        );
+    }
+    let _ = writeln!(
+        out,
+        "\nsolver: {} variants in {:.2} s, {}",
+        r.solver.variants, r.solver.seconds, r.solver.status
+    );
+    if r.solver.status != "optimal" {
+        let _ = writeln!(out, "  the time limit cut the search short: this is the best verified design found, and may not be optimal");
+    }
+    for c in &r.cautions {
+        let _ = writeln!(out, "\ncaution: {c}");
+    }
+    out
+}

@@ -1,0 +1,367 @@
+//! The spread report: each stage's object (as `check` reports it) with the spread's keys beside it, `worst`,
+//! `monte_carlo`, `sensitivity` and `dominant`, plus pure renderers for people (aligned text with the
+//! histograms) and for a build sheet (one SVG of every stage's histograms).
+
+use super::histogram::{self, share, Axis};
+use super::table::{cautions, heading, pnp_note, Grid};
+use super::{Report, StageReport};
+use crate::notation::{code, trim_number};
+use crate::spread::{Corner, Extremes, Quantity, Sensitivity, StageSpread, Summary};
+use crate::stage::{SlotNetworks, Stage};
+use crate::units::{Amps, Ohms, Tolerance, Volts};
+use serde::Serialize;
+use std::fmt::Write;
+
+/// One stage: its report object and its spread, serialised as one JSON object.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SpreadStage {
+    /// The stage object shared with `check`.
+    #[serde(flatten)]
+    pub stage: StageReport,
+    /// The spread's findings.
+    #[serde(flatten)]
+    pub spread: StageSpread,
+}
+
+/// The whole spread report: `{"stages": [...], "cautions": [...]}`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SpreadReport {
+    /// One entry per stage.
+    pub stages: Vec<SpreadStage>,
+    /// Safety cautions, as `check` gives them.
+    pub cautions: Vec<String>,
+}
+
+impl SpreadReport {
+    /// A report of stages, each with the networks it was built from and its spread.
+    pub fn new(stages: Vec<(&Stage, &SlotNetworks, StageSpread)>) -> SpreadReport {
+        let stages: Vec<SpreadStage> = stages
+            .into_iter()
+            .map(|(st, nets, spread)| SpreadStage {
+                stage: StageReport::new(st, nets),
+                spread,
+            })
+            .collect();
+        let cautions = Report::new(stages.iter().map(|s| s.stage.clone()).collect()).cautions;
+        SpreadReport { stages, cautions }
+    }
+}
+
+/// A slope with its sign and 3 decimals ("+0.912"), or "-" when there is none (cut off).
+fn slope(x: f64) -> String {
+    if x.is_finite() {
+        // A slope that rounds to zero prints without a sign that rounding noise chose.
+        let x = if x.abs() < 5e-4 { 0.0 } else { x };
+        format!("{x:+.3}")
+    } else {
+        "-".into()
+    }
+}
+
+/// A list in words: "a", "a and b", "a, b and c".
+fn words(items: &[String]) -> String {
+    match items {
+        [] => String::new(),
+        [one] => one.clone(),
+        [init @ .., last] => format!("{} and {last}", init.join(", ")),
+    }
+}
+
+/// Where a corner is: each slot's end, beta and temperature.
+fn corner_text(c: &Corner) -> String {
+    let slots: Vec<String> = c
+        .high
+        .iter()
+        .map(|(s, high)| format!("{s} {}", if *high { "high" } else { "low" }))
+        .collect();
+    format!(
+        "{}, beta {}, {}",
+        slots.join(", "),
+        trim_number(c.beta, 3),
+        c.temperature
+    )
+}
+
+fn extremes_row<T: Quantity>(
+    g: &mut Grid,
+    name: &str,
+    limit: String,
+    e: &Extremes<T>,
+    show: &dyn Fn(T) -> String,
+) {
+    g.row([
+        name.to_string(),
+        limit,
+        show(e.min.value),
+        e.min.region.name().to_string(),
+        show(e.max.value),
+        e.max.region.name().to_string(),
+    ]);
+}
+
+fn summary_row<T: Quantity + std::fmt::Display>(
+    g: &mut Grid,
+    name: &str,
+    x: &Summary<T>,
+    target: f64,
+) {
+    g.row([
+        name.to_string(),
+        x.mean.to_string(),
+        x.sd.to_string(),
+        share(x.sd.si() / target),
+        x.min.to_string(),
+        x.max.to_string(),
+    ]);
+}
+
+fn built_from(s: &StageReport) -> String {
+    let slots: Vec<String> = s
+        .slots
+        .0
+        .iter()
+        .map(|(slot, sr)| {
+            let mut tols: Vec<String> = sr
+                .parts
+                .iter()
+                .map(|p| Tolerance(p.tolerance).to_string())
+                .collect();
+            tols.dedup();
+            format!("{slot} {} ({})", sr.network, tols.join(", "))
+        })
+        .collect();
+    format!("  built from {}\n", slots.join("; "))
+}
+
+fn worst_lines(s: &SpreadStage) -> String {
+    let (w, t) = (&s.spread.worst, &s.stage.target);
+    let (b_min, b_max) = s.spread.monte_carlo.beta;
+    let temps: Vec<String> = w.temperatures.iter().map(|t| t.to_string()).collect();
+    let mut out = format!(
+        "\n  worst case over {} corners: every resistor at either end of its tolerance, beta {} and {}, at {}\n",
+        w.corners,
+        trim_number(b_min, 3),
+        trim_number(b_max, 3),
+        words(&temps)
+    );
+    let mut g = Grid::new(1);
+    g.row(["", "target", "lowest", "", "highest", ""]);
+    extremes_row(&mut g, "IC", Amps(t.ic).to_string(), &w.ic, &|x| {
+        x.to_string()
+    });
+    extremes_row(&mut g, "VCE", Volts(t.vce).to_string(), &w.vce, &|x| {
+        x.to_string()
+    });
+    extremes_row(&mut g, "VE", Volts(t.ve).to_string(), &w.ve, &|x| {
+        x.to_string()
+    });
+    if let Some(e) = &w.stiffness {
+        let limit = w
+            .stiffness_limit
+            .map_or(String::new(), |l| format!("≥ {}", trim_number(l, 3)));
+        extremes_row(&mut g, "stiffness (× IB)", limit, e, &|x| {
+            if x.is_finite() {
+                trim_number(x, 3)
+            } else {
+                "∞".into()
+            }
+        });
+    }
+    let hottest = w
+        .temperatures
+        .last()
+        .map(|t| format!(" at {t}"))
+        .unwrap_or_default();
+    let limit = w
+        .power_limit
+        .map_or(String::new(), |p| format!("≤ {p}{hottest}"));
+    extremes_row(
+        &mut g,
+        "transistor power",
+        limit,
+        &w.transistor_power,
+        &|x| x.to_string(),
+    );
+    extremes_row(
+        &mut g,
+        "hottest resistor",
+        "≤ 100 % of derated".into(),
+        &w.resistor_load,
+        &share,
+    );
+    out.push_str(&g.render("    "));
+    for (name, lo, hi) in [
+        ("IC", &w.ic.min.corner, &w.ic.max.corner),
+        ("VCE", &w.vce.min.corner, &w.vce.max.corner),
+    ] {
+        let _ = writeln!(out, "  {name} is lowest with {}", corner_text(lo));
+        let _ = writeln!(out, "  {name} is highest with {}", corner_text(hi));
+    }
+    out
+}
+
+fn monte_carlo_lines(s: &SpreadStage) -> String {
+    let (mc, t) = (&s.spread.monte_carlo, &s.stage.target);
+    let mut out = format!(
+        "\n  Monte Carlo: {} builds (seed {}), each resistor {} within its tolerance, beta uniform from {} to {}, at {}\n",
+        mc.runs,
+        mc.seed,
+        mc.dist.name(),
+        trim_number(mc.beta.0, 3),
+        trim_number(mc.beta.1, 3),
+        mc.temperature
+    );
+    let _ = writeln!(
+        out,
+        "    active, with IC and VCE both within ±10 % of target: {}; within ±5 %: {}",
+        share(mc.yield_10),
+        share(mc.yield_5)
+    );
+    if mc.active < 1.0 {
+        let _ = writeln!(
+            out,
+            "    builds out of the active region: {}",
+            share(1.0 - mc.active)
+        );
+    }
+    let mut g = Grid::new(1);
+    g.row(["", "mean", "sd", "sd of target", "lowest", "highest"]);
+    summary_row(&mut g, "IC", &mc.ic, t.ic);
+    summary_row(&mut g, "VCE", &mc.vce, t.vce);
+    out.push_str(&g.render("    "));
+    for (h, axis) in [
+        (
+            &mc.ic_histogram,
+            Axis {
+                name: "IC",
+                unit: "A",
+                target: t.ic,
+            },
+        ),
+        (
+            &mc.vce_histogram,
+            Axis {
+                name: "VCE",
+                unit: "V",
+                target: t.vce,
+            },
+        ),
+    ] {
+        out.push('\n');
+        for line in histogram::render_text(h, &axis).lines() {
+            let _ = writeln!(out, "    {line}");
+        }
+    }
+    out
+}
+
+fn sensitivity_lines(s: &SpreadStage) -> String {
+    let sens = &s.spread.sensitivity;
+    let mut out = format!(
+        "\n  sensitivity at the nominal build, typical beta and {}: % change of IC and VCE per 1 % change of each\n  source; reach is how far the source can move (half its band, in ln terms), and moves is slope × reach\n",
+        s.spread.monte_carlo.temperature
+    );
+    let mut g = Grid::new(1);
+    g.row([
+        "source",
+        "value",
+        "reach",
+        "IC",
+        "VCE",
+        "IC moves",
+        "VCE moves",
+    ]);
+    let row = |g: &mut Grid, name: String, value: String, x: &Sensitivity| {
+        g.row([
+            name,
+            value,
+            format!("±{}", share(x.reach)),
+            slope(x.ic),
+            slope(x.vce),
+            format!("±{}", share(x.ic_spread)),
+            format!("±{}", share(x.vce_spread)),
+        ]);
+    };
+    for (slot, x) in &sens.slots {
+        let value = s
+            .stage
+            .slots
+            .0
+            .iter()
+            .find(|(k, _)| k == slot)
+            .map_or(String::new(), |(_, r)| code(Ohms(r.ohms)));
+        row(&mut g, slot.to_string(), value, x);
+    }
+    row(
+        &mut g,
+        "beta".into(),
+        trim_number(s.stage.op.beta, 3),
+        &sens.beta,
+    );
+    out.push_str(&g.render("    "));
+    let _ = writeln!(
+        out,
+        "  IC's spread comes mostly from {}, VCE's from {}",
+        sens.dominant_ic.name(),
+        sens.dominant_vce.name()
+    );
+    out
+}
+
+/// The spread report for people: per stage, the parts, the worst case, the Monte Carlo with its
+/// histograms, and the sensitivities; then the cautions.
+pub fn render_spread(r: &SpreadReport) -> String {
+    let mut out = String::new();
+    for (i, s) in r.stages.iter().enumerate() {
+        if i > 0 {
+            out.push('\n');
+        }
+        out.push_str(&heading(&s.stage));
+        out.push_str(pnp_note(&s.stage));
+        out.push_str(&built_from(&s.stage));
+        out.push_str(&worst_lines(s));
+        out.push_str(&monte_carlo_lines(s));
+        out.push_str(&sensitivity_lines(s));
+    }
+    out.push_str(&cautions(&Report {
+        stages: Vec::new(),
+        cautions: r.cautions.clone(),
+    }));
+    out
+}
+
+/// One SVG of every stage's IC and VCE histograms, side by side, a row per stage.
+pub fn render_spread_svg(r: &SpreadReport) -> String {
+    let charts: Vec<_> = r
+        .stages
+        .iter()
+        .flat_map(|s| {
+            let (mc, t) = (&s.spread.monte_carlo, &s.stage.target);
+            [
+                (
+                    &mc.ic_histogram,
+                    Axis {
+                        name: "IC",
+                        unit: "A",
+                        target: t.ic,
+                    },
+                    format!("{}: IC of {} builds", s.stage.name, mc.runs),
+                ),
+                (
+                    &mc.vce_histogram,
+                    Axis {
+                        name: "VCE",
+                        unit: "V",
+                        target: t.vce,
+                    },
+                    format!(
+                        "{}: VCE; both within ±10 %: {}",
+                        s.stage.name,
+                        share(mc.yield_10)
+                    ),
+                ),
+            ]
+        })
+        .collect();
+    histogram::render_svg(&charts, 2)
+}

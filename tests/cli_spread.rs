@@ -1,0 +1,246 @@
+//! `biasfit spread` through the real binary: the report is snapshotted, the JSON keeps its contract, a design
+//! result is read back, the same seed gives the same output, the SVG is written, every bad input is refused
+//! with one line and exit code 2, and the README shows the command's real output.
+
+mod common;
+use common::*;
+use std::path::{Path, PathBuf};
+
+const LINE_DRIVER: [&str; 4] = [
+    "spread",
+    "examples/line-driver.toml",
+    "--use",
+    "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+];
+
+fn with(extra: &[&'static str]) -> Vec<&'static str> {
+    let mut v = LINE_DRIVER.to_vec();
+    v.extend_from_slice(extra);
+    v
+}
+
+fn temp(name: &str) -> PathBuf {
+    std::env::temp_dir().join(format!("biasfit-spread-{}-{name}", std::process::id()))
+}
+
+#[test]
+fn line_driver_report_snapshot() {
+    let out = biasfit(&with(&["--runs", "4000"]));
+    assert!(out.status.success(), "{}", stderr(&out));
+    snapshot(
+        "tests/snapshots/spread-line-driver.txt".as_ref(),
+        &stdout(&out),
+    );
+}
+
+#[test]
+fn json_keeps_the_contract() {
+    let out = biasfit(&with(&["--runs", "3000", "--seed", "7", "--json"]));
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let s = &v["stages"][0];
+    assert_eq!(s["name"], "line driver");
+    for k in ["ic", "vce", "ve", "stiffness"] {
+        let pair = s["worst"][k]
+            .as_array()
+            .unwrap_or_else(|| panic!("worst.{k}"));
+        assert_eq!(pair.len(), 2, "worst.{k}");
+    }
+    let mc = &s["monte_carlo"];
+    assert_eq!(
+        (mc["runs"].as_u64(), mc["seed"].as_u64()),
+        (Some(3000), Some(7))
+    );
+    for k in ["yield_10", "yield_5"] {
+        assert!(mc[k].is_number(), "{k}");
+    }
+    for q in ["ic", "vce"] {
+        assert!(mc[q]["mean"].is_number() && mc[q]["sd"].is_number(), "{q}");
+    }
+    for k in ["R1", "R2", "RC", "RE", "beta"] {
+        assert!(
+            s["sensitivity"][k]["ic"].is_number() && s["sensitivity"][k]["vce"].is_number(),
+            "{k}"
+        );
+    }
+    // SI base units: the target current is 2 mA, written as 0.002.
+    assert!((s["target"]["ic"].as_f64().unwrap() - 0.002).abs() < 1e-12);
+}
+
+#[test]
+fn the_same_seed_gives_the_same_output() {
+    let a = biasfit(&with(&["--runs", "2000", "--seed", "42"]));
+    let b = biasfit(&with(&["--runs", "2000", "--seed", "42"]));
+    let c = biasfit(&with(&["--runs", "2000", "--seed", "43"]));
+    assert_eq!(stdout(&a), stdout(&b));
+    assert_ne!(stdout(&a), stdout(&c));
+}
+
+#[test]
+fn reads_a_design_result_back() {
+    let design = biasfit(&[
+        "design",
+        "examples/two-stage.toml",
+        "--stock",
+        "stock/hobby-drawer.csv",
+        "--json",
+    ]);
+    assert!(design.status.success(), "{}", stderr(&design));
+    let path = temp("two-stage.json");
+    std::fs::write(&path, &design.stdout).unwrap();
+    let p = path.to_string_lossy().into_owned();
+    let out = biasfit(&[
+        "spread",
+        "examples/two-stage.toml",
+        "--result",
+        &p,
+        "--runs",
+        "2000",
+        "--json",
+    ]);
+    let _ = std::fs::remove_file(&path);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let d: serde_json::Value = serde_json::from_slice(&design.stdout).unwrap();
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["stages"].as_array().unwrap().len(), 2);
+    for k in 0..2 {
+        // The stages are built from exactly the parts the design chose.
+        assert_eq!(
+            v["stages"][k]["slots"], d["stages"][k]["slots"],
+            "stage {k}"
+        );
+        assert_eq!(v["stages"][k]["name"], d["stages"][k]["name"]);
+    }
+}
+
+#[test]
+fn writes_the_histograms_as_svg() {
+    let path = temp("hist.svg");
+    let p = path.to_string_lossy().into_owned();
+    let args: Vec<&str> = LINE_DRIVER
+        .iter()
+        .copied()
+        .chain(["--runs", "1000", "--svg", &p])
+        .collect();
+    let out = biasfit(&args);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let svg = std::fs::read_to_string(&path).unwrap();
+    let _ = std::fs::remove_file(&path);
+    assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
+    assert!(svg.contains("line driver: IC of 1000 builds"));
+    // An unwritable path is an output failure: exit 4, one line.
+    let args: Vec<&str> = LINE_DRIVER
+        .iter()
+        .copied()
+        .chain(["--runs", "10", "--svg", "/nonexistent-dir/x.svg"])
+        .collect();
+    let out = biasfit(&args);
+    assert_eq!(out.status.code(), Some(4), "{}", stderr(&out));
+    assert_eq!(stderr(&out).lines().count(), 1);
+}
+
+#[test]
+fn bad_input_is_refused_in_one_line() {
+    let bad_result = temp("bad.json");
+    std::fs::write(
+        &bad_result,
+        "{\"stages\": [{\"name\": \"line driver\", \"slots\": {}}]}",
+    )
+    .unwrap();
+    let bad = bad_result.to_string_lossy().into_owned();
+    let cases: Vec<(Vec<&str>, &str)> = vec![
+        (
+            with(&["--temp", "70..-20"]),
+            "--temp 70..-20: the lower end comes first",
+        ),
+        (with(&["--temp", "hot"]), "expected a range in °C as LO..HI"),
+        (
+            with(&["--runs", "0"]),
+            "--runs 0: expected a number of builds",
+        ),
+        (with(&["--tolerance", "7"]), "--tolerance"),
+        (with(&["--dist", "lognormal"]), "lognormal"),
+        (
+            vec![
+                "spread",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7",
+            ],
+            "no value for RE",
+        ),
+        (
+            vec![
+                "spread",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7,RE=56x",
+            ],
+            "--use RE",
+        ),
+        (vec!["spread", "examples/line-driver.toml"], "--use"),
+        (
+            vec![
+                "spread",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k",
+                "--result",
+                "x.json",
+            ],
+            "cannot be used with",
+        ),
+        (
+            vec![
+                "spread",
+                "examples/line-driver.toml",
+                "--result",
+                "missing.json",
+            ],
+            "missing.json: cannot read the design result",
+        ),
+        (
+            vec!["spread", "examples/line-driver.toml", "--result", &bad],
+            "no network for R1, R2, RC, RE",
+        ),
+        (
+            vec![
+                "spread",
+                "examples/two-stage.toml",
+                "--use",
+                "RC=4k7,RE=6k8,RB=68k",
+            ],
+            "pick the one the --use values are for with --stage",
+        ),
+        (
+            vec!["spread", "examples/none.toml", "--use", "R1=1k"],
+            "examples/none.toml",
+        ),
+    ];
+    for (args, want) in cases {
+        let out = biasfit(&args);
+        let err = stderr(&out);
+        assert_eq!(out.status.code(), Some(2), "{args:?}: {err}");
+        assert!(err.contains(want), "{args:?}: wanted {want:?} in {err}");
+        if !want.contains("cannot be used with") && !want.contains("lognormal") && want != "--use" {
+            // Our own refusals are one line; clap's usage errors add a usage hint.
+            assert_eq!(err.lines().count(), 1, "{args:?}: {err}");
+            assert!(err.starts_with("error: "), "{err}");
+        }
+    }
+    let _ = std::fs::remove_file(&bad_result);
+}
+
+#[test]
+fn readme_shows_real_output() {
+    let readme =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let args = with(&[]);
+    let out = stdout(&biasfit(&args));
+    let block = format!("$ biasfit {}\n{out}```", args.join(" "));
+    assert!(
+        readme.contains(&block),
+        "README's output of biasfit {} is stale; it is now:\n{out}",
+        args.join(" ")
+    );
+}

@@ -1,0 +1,265 @@
+//! `biasfit ideal` and `biasfit check` through the real binary, on the demo design files and fixtures.
+
+use serde_json::Value;
+use std::path::Path;
+use std::process::{Command, Output};
+
+fn biasfit(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_biasfit"))
+        .args(args)
+        .current_dir(Path::new(env!("CARGO_MANIFEST_DIR")))
+        .output()
+        .expect("the binary runs")
+}
+
+fn json(out: &Output) -> Value {
+    serde_json::from_slice(&out.stdout)
+        .unwrap_or_else(|e| panic!("not JSON ({e}): {}", String::from_utf8_lossy(&out.stdout)))
+}
+
+fn stderr(out: &Output) -> String {
+    String::from_utf8_lossy(&out.stderr).into_owned()
+}
+
+const DEMOS: [&str; 5] = [
+    "examples/sensor-preamp.toml",
+    "examples/line-driver.toml",
+    "examples/split-emitter.toml",
+    "examples/pnp-stage.toml",
+    "examples/two-stage.toml",
+];
+
+#[test]
+fn ideal_json_keeps_the_contract_and_hits_its_targets() {
+    for demo in DEMOS {
+        let out = biasfit(&["ideal", demo, "--json"]);
+        assert_eq!(out.status.code(), Some(0), "{demo}: {}", stderr(&out));
+        let v = json(&out);
+        for s in v["stages"].as_array().unwrap() {
+            for key in [
+                "name", "topology", "region", "target", "op", "error", "slots", "checks",
+            ] {
+                assert!(!s[key].is_null(), "{demo}: no {key}");
+            }
+            for key in ["ic", "vce", "ve"] {
+                assert!(s["target"][key].is_number(), "{demo}: target.{key}");
+            }
+            assert!(s["target"].get("rc").is_some());
+            for key in ["ib", "ic", "ie", "vb", "ve", "vc", "vce", "supply_current"] {
+                assert!(s["op"][key].is_number(), "{demo}: op.{key}");
+            }
+            assert!(s["op"].get("divider_current").is_some());
+            assert_eq!(s["region"], "active");
+            // The ideal design meets its own rule exactly.
+            assert!(
+                s["error"].as_f64().unwrap() < 1e-9,
+                "{demo}: {}",
+                s["error"]
+            );
+            for (slot, r) in s["slots"].as_object().unwrap() {
+                assert!(r["ohms"].as_f64().unwrap() > 0.0, "{slot}");
+                assert!(r["network"].is_string());
+                let part = &r["parts"][0];
+                for key in ["ohms", "tolerance", "power", "location"] {
+                    assert!(part.get(key).is_some(), "{slot}.parts[0].{key}");
+                }
+            }
+            for c in s["checks"].as_array().unwrap() {
+                for key in ["name", "value", "limit", "ok"] {
+                    assert!(c.get(key).is_some(), "check {key}");
+                }
+            }
+        }
+    }
+}
+
+#[test]
+fn ideal_table_lists_nearest_series_values() {
+    let out = biasfit(&["ideal", "examples/line-driver.toml"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("slot  ideal"), "{text}");
+    assert!(text.contains("E12") && text.contains("E24") && text.contains("E96"));
+    // RC matches the 2k7 load, which is itself an E12 value.
+    let rc = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("RC "))
+        .unwrap();
+    assert_eq!(
+        rc.split_whitespace().collect::<Vec<_>>(),
+        ["RC", "2k7", "2k7", "2k7", "2k67"]
+    );
+}
+
+#[test]
+fn check_reports_the_built_stage() {
+    let out = biasfit(&[
+        "check",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+        "--json",
+    ]);
+    let v = json(&out);
+    let s = &v["stages"][0];
+    assert_eq!(s["slots"]["RE"]["network"], "560R+39R");
+    assert_eq!(s["slots"]["RE"]["parts"].as_array().unwrap().len(), 2);
+    assert!((s["slots"]["RE"]["ohms"].as_f64().unwrap() - 599.0).abs() < 1e-9);
+    let ok = s["checks"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .all(|c| c["ok"] == true);
+    assert_eq!(out.status.code(), Some(if ok { 0 } else { 1 }));
+}
+
+#[test]
+fn a_failed_check_exits_1() {
+    // A divider ten times too weak fails stiffness.
+    let out = biasfit(&[
+        "check",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=390k,R2=75k,RC=2k7,RE=600",
+    ]);
+    assert_eq!(out.status.code(), Some(1));
+    let text = String::from_utf8_lossy(&out.stdout);
+    let line = text
+        .lines()
+        .find(|l| l.trim_start().starts_with("stiffness"))
+        .unwrap();
+    assert!(line.ends_with("FAIL"), "{line}");
+}
+
+#[test]
+fn bad_input_is_one_line_and_exit_2() {
+    for (args, needle) in [
+        (
+            vec![
+                "check",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7",
+            ],
+            "no value for RE",
+        ),
+        (
+            vec![
+                "check",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7,RE=600,RB=1M",
+            ],
+            "has no RB",
+        ),
+        (
+            vec![
+                "check",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7,RE=6x0",
+            ],
+            "--use RE",
+        ),
+        (
+            vec![
+                "check",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7,RE=600",
+                "--tolerance",
+                "7",
+            ],
+            "--tolerance",
+        ),
+        (
+            vec!["check", "examples/two-stage.toml", "--use", "RC=4k3"],
+            "pick the one to check with --stage",
+        ),
+        (
+            vec!["ideal", "tests/fixtures/typo.toml"],
+            "tests/fixtures/typo.toml:12: unknown key 'stifness'",
+        ),
+        (
+            vec!["ideal", "tests/fixtures/no-such-file.toml"],
+            "cannot read the design file",
+        ),
+        (
+            vec!["ideal", "examples/two-stage.toml", "--stage", "output"],
+            "no such stage",
+        ),
+    ] {
+        let out = biasfit(&args);
+        assert_eq!(out.status.code(), Some(2), "{args:?}");
+        let err = stderr(&out);
+        assert_eq!(err.lines().count(), 1, "{err}");
+        assert!(
+            err.starts_with("error: ") && err.contains(needle),
+            "{needle}: {err}"
+        );
+    }
+}
+
+#[test]
+fn stage_is_picked_by_name_or_number() {
+    let a = biasfit(&[
+        "ideal",
+        "examples/two-stage.toml",
+        "--stage",
+        "meter drive",
+        "--json",
+    ]);
+    let b = biasfit(&["ideal", "examples/two-stage.toml", "--stage", "2", "--json"]);
+    assert_eq!(json(&a), json(&b));
+    assert_eq!(json(&a)["stages"][0]["topology"], "collector-feedback");
+}
+
+#[test]
+fn fifty_volts_and_up_prints_the_caution() {
+    let out = biasfit(&["ideal", "tests/fixtures/high-voltage.toml"]);
+    let text = String::from_utf8_lossy(&out.stdout);
+    assert!(text.contains("caution: stage \"hv\" spans 60 V"), "{text}");
+    let v = json(&biasfit(&[
+        "ideal",
+        "tests/fixtures/high-voltage.toml",
+        "--json",
+    ]));
+    assert!(v["cautions"][0]
+        .as_str()
+        .unwrap()
+        .contains("safe extra-low voltage"));
+    let low = json(&biasfit(&["ideal", "examples/line-driver.toml", "--json"]));
+    assert_eq!(low["cautions"].as_array().unwrap().len(), 0);
+}
+
+#[test]
+fn readme_shows_real_output_and_a_valid_design_file() {
+    let readme =
+        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    for (args, shown) in [
+        (
+            vec!["ideal", "examples/line-driver.toml"],
+            "$ biasfit ideal examples/line-driver.toml\n",
+        ),
+        (
+            vec![
+                "check",
+                "examples/line-driver.toml",
+                "--use",
+                "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+            ],
+            "$ biasfit check examples/line-driver.toml --use R1=39k,R2=7k5,RC=2k7,RE=560+39\n",
+        ),
+    ] {
+        let out = String::from_utf8(biasfit(&args).stdout).unwrap();
+        let block = format!("{shown}{out}```");
+        assert!(
+            readme.contains(&block),
+            "README's output of {args:?} is stale; it is now:\n{out}"
+        );
+    }
+    let start = readme.find("### Design file (TOML)").unwrap();
+    let toml_start = readme[start..].find("```toml\n").unwrap() + start + 8;
+    let toml_end = readme[toml_start..].find("```").unwrap() + toml_start;
+    let design = biasfit::stage::parse("README.md", &readme[toml_start..toml_end]).unwrap();
+    assert_eq!(design.stages[0].name, "line driver");
+}

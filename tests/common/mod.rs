@@ -1,0 +1,51 @@
+//! Helpers shared by the integration tests: run the real binary, and compare output with snapshots.
+#![allow(dead_code)]
+
+use std::path::{Path, PathBuf};
+use std::process::{Command, Output};
+
+/// The crate's root folder.
+pub fn root() -> PathBuf {
+    PathBuf::from(env!("CARGO_MANIFEST_DIR"))
+}
+
+/// Runs `biasfit` with `args` in the crate root.
+pub fn biasfit(args: &[&str]) -> Output {
+    Command::new(env!("CARGO_BIN_EXE_biasfit"))
+        .args(args)
+        .current_dir(root())
+        .env("NO_COLOR", "1")
+        .output()
+        .expect("the biasfit binary runs")
+}
+
+/// Standard output as text.
+pub fn stdout(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stdout).into_owned()
+}
+
+/// Standard error as text.
+pub fn stderr(o: &Output) -> String {
+    String::from_utf8_lossy(&o.stderr).into_owned()
+}
+
+/// Compares `actual` with the snapshot file; with UPDATE_SNAPSHOTS=1 set, writes it instead.
+pub fn snapshot(path: &Path, actual: &str) {
+    let path = root().join(path);
+    if std::env::var_os("UPDATE_SNAPSHOTS").is_some() {
+        std::fs::write(&path, actual).expect("snapshot written");
+        return;
+    }
+    let expected = std::fs::read_to_string(&path).unwrap_or_else(|_| {
+        panic!(
+            "no snapshot {}; run with UPDATE_SNAPSHOTS=1 to create it",
+            path.display()
+        )
+    });
+    assert_eq!(
+        actual,
+        expected,
+        "output differs from snapshot {}",
+        path.display()
+    );
+}
