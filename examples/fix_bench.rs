@@ -9,6 +9,7 @@
 //! Run with `cargo run --release --example fix_bench`.
 
 use biasfit::network::candidates::{best, Index};
+use biasfit::network::fix::error_text;
 use biasfit::notation::{code, Series};
 use biasfit::stock::{Part, Stock};
 use biasfit::units::{Ohms, Tolerance, Watts};
@@ -148,13 +149,7 @@ fn main() {
                 "{what} for {t}: fast {e} vs naive {naive}"
             );
         }
-        let err = |e: f64| {
-            if e.abs() < 1e-3 {
-                format!("{:+.2} ppm", e * 1e6)
-            } else {
-                format!("{:+.3} %", e * 100.0)
-            }
-        };
+        let err = error_text;
         println!(
             "  {:<9} {:<22} {:>10} {:>10}   {:<26} {:>10} {:>11}",
             code(Ohms(t)),
