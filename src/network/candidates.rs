@@ -14,8 +14,10 @@
 //! band, then more pieces left of the scarcest part, then the earlier shape (single, series pair, parallel
 //! pair, series triple, parallel triple, `a+(b|c)`, `a|(b+c)`), then the lower part ids in member order; each
 //! is kept unless a network already kept lies within 1 ppm. No two kept networks are within 1 ppm, and every
-//! dropped network has a preferred one kept within 1 ppm, so no value is left unrepresented. Members are written dominant part first: series largest first, parallel smallest
-//! first, `a+(b|c)` and `a|(b+c)` with the lone part first.
+//! dropped network has a preferred one kept within 1 ppm, so no value is left unrepresented.
+//!
+//! Members are written dominant part first: series largest first, parallel smallest first (by value, then
+//! part id), and `a+(b|c)` and `a|(b+c)` with the lone part first.
 //!
 //! It relies on [`crate::stock::Stock`] for the parts and on [`Network`] for what a network is.
 
