@@ -7,6 +7,7 @@
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 
+pub mod bench;
 pub mod network;
 pub mod notation;
 pub mod optimise;

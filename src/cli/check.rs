@@ -1,9 +1,11 @@
 //! `biasfit check FILE --use R1=15k,R2=3k3,...`: the exact operating point and every check of a stage built
 //! from the given networks.
 
+use super::drawings::DrawingArgs;
 use super::ideal::{stages, PartArgs};
 use super::{Failure, Out};
 use biasfit::notation::parse_network;
+use biasfit::report::html::{pick_list, SheetStage};
 use biasfit::report::{table, Report, StageReport};
 use biasfit::stage::{Slot, SlotNetworks, Stage};
 use biasfit::units::{Tolerance, Watts};
@@ -23,6 +25,8 @@ pub struct CheckArgs {
     pub stage: Option<String>,
     #[command(flatten)]
     pub parts: PartArgs,
+    #[command(flatten)]
+    pub drawings: DrawingArgs,
     /// Print the report as JSON
     #[arg(long)]
     pub json: bool,
@@ -106,6 +110,16 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     let s = &design.stages[picked[0]];
     let nets = networks(s, &args.slots, tol, watts)?;
     let report = Report::new(vec![StageReport::new(s, &nets)]);
+    if args.drawings.wanted() {
+        let sheet = [SheetStage::new(s, &nets, 1)];
+        let title = format!("{} ({})", s.name, design.file);
+        for f in args
+            .drawings
+            .write(&title, &sheet, &pick_list(&sheet), &report.cautions)?
+        {
+            eprintln!("wrote {}", f.display());
+        }
+    }
     if args.json {
         out.json(&report)?;
     } else {

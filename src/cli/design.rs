@@ -1,6 +1,7 @@
 //! `biasfit design FILE --stock STOCK`: fill every slot of every stage from stock so that the operating
 //! points land closest to their targets, and print the build sheet, the baseline and the pick list.
 
+use super::drawings::DrawingArgs;
 use super::ideal::stages;
 use super::output::Progress;
 use super::stock::{load as load_stock, DefaultArgs};
@@ -8,6 +9,7 @@ use super::{Failure, Out};
 use biasfit::notation::{parse_network, parse_tolerance, parse_watts};
 use biasfit::optimise::design::{design, DesignError, Request};
 use biasfit::report::design::{render, DesignReport};
+use biasfit::report::html::SheetStage;
 use biasfit::stage::{Design, Slot};
 use clap::Args;
 use std::path::PathBuf;
@@ -47,6 +49,8 @@ pub struct DesignArgs {
     pub time_limit: Option<f64>,
     #[command(flatten)]
     pub defaults: DefaultArgs,
+    #[command(flatten)]
+    pub drawings: DrawingArgs,
     /// Print the report as JSON
     #[arg(long)]
     pub json: bool,
@@ -140,6 +144,20 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
         Err(e) => return Err(Failure::Input(e.to_string())),
     };
     let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);
+    if args.drawings.wanted() {
+        let sheet: Vec<SheetStage> = outcome
+            .built
+            .iter()
+            .map(|b| SheetStage::new(&design_file.stages[b.stage], &b.networks, b.copies))
+            .collect();
+        let title = format!("{} from {}", design_file.file, stock.file);
+        for f in args
+            .drawings
+            .write(&title, &sheet, &report.pick, &report.cautions)?
+        {
+            eprintln!("wrote {}", f.display());
+        }
+    }
     if args.json {
         out.json(&report)?;
     } else {

@@ -5,11 +5,13 @@
 
 mod check;
 mod design;
+mod drawings;
 mod fix;
 mod ideal;
 mod output;
 mod spread;
 mod stock;
+mod verify;
 
 use clap::{Parser, Subcommand};
 use std::process::ExitCode;
@@ -38,6 +40,8 @@ enum Command {
     Spread(spread::SpreadArgs),
     /// Fill every slot of every stage from stock so the operating points land closest to their targets
     Design(design::DesignArgs),
+    /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
+    Verify(verify::VerifyArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.
@@ -87,6 +91,7 @@ pub fn main() -> ExitCode {
         Command::Check(args) => check::run(args, &mut out),
         Command::Spread(args) => spread::run(args, &mut out),
         Command::Design(args) => design::run(args, &mut out),
+        Command::Verify(args) => verify::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -213,6 +213,22 @@ impl<'a> Index<'a> {
             .collect()
     }
 
+    /// [`Index::in_window`], unless the window holds more than `limit` networks before deduplication: then
+    /// None, found without building them all, so that a huge stock cannot exhaust memory.
+    pub fn in_window_limited(&self, low: Ohms, high: Ohms, limit: usize) -> Option<Vec<Candidate>> {
+        let mut raws = Vec::new();
+        self.collect(low.0, high.0, limit, &mut raws);
+        if raws.len() > limit {
+            return None;
+        }
+        Some(
+            self.kept_from(raws)
+                .into_iter()
+                .map(|k| self.candidate(&k))
+                .collect(),
+        )
+    }
+
     /// The `k` best networks for `target`, ranked by |relative error|; ties go to fewer parts, then the
     /// tighter band, then more pieces left, then the shape order and part ids.
     ///
@@ -296,7 +312,7 @@ impl<'a> Index<'a> {
     }
 
     /// Every network (not yet deduplicated) with a value in [low, high].
-    fn collect(&self, low: f64, high: f64, out: &mut Vec<Raw>) {
+    fn collect(&self, low: f64, high: f64, limit: usize, out: &mut Vec<Raw>) {
         let n = self.entries.len();
         if n == 0 || high.is_nan() || low.is_nan() || high < low || high <= 0.0 {
             return;
@@ -317,6 +333,9 @@ impl<'a> Index<'a> {
         // per a (the pair search is the one that must take microseconds).
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a + a > high {
                 break;
             }
@@ -327,6 +346,9 @@ impl<'a> Index<'a> {
         }
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if Shape::Parallel2.eval([a, a, 0.0]) > high {
                 break;
             }
@@ -352,10 +374,16 @@ impl<'a> Index<'a> {
         }
         // Three in series, smallest first in the loops, written largest first.
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a + a + a > high {
                 break;
             }
             for (j, &b) in v.iter().enumerate().skip(i) {
+                if out.len() > limit {
+                    return;
+                }
                 if b + b + a > high {
                     break;
                 }
@@ -372,6 +400,9 @@ impl<'a> Index<'a> {
         }
         // Three in parallel: i ≤ j ≤ k by value, so 1/R is at least 1/a and at most 3/a.
         for (i, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if Shape::Parallel3.eval([a, a, a]) > high {
                 break;
             }
@@ -387,6 +418,9 @@ impl<'a> Index<'a> {
                 i
             };
             for (j, &b) in v.iter().enumerate().skip(first) {
+                if out.len() > limit {
+                    return;
+                }
                 if Shape::Parallel3.eval([a, b, b]) > high {
                     break;
                 }
@@ -410,6 +444,9 @@ impl<'a> Index<'a> {
         }
         // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a > high {
                 break;
             }
@@ -417,6 +454,9 @@ impl<'a> Index<'a> {
             let p_hi = high - a + slack;
             let first = v.partition_point(|&b| b < p_lo * (1.0 - SLACK));
             for (i, &b) in v.iter().enumerate().skip(first) {
+                if out.len() > limit {
+                    return;
+                }
                 if a + Shape::Parallel2.eval([b, b, 0.0]) > high {
                     break;
                 }
@@ -441,6 +481,9 @@ impl<'a> Index<'a> {
         }
         // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {
+            if out.len() > limit {
+                return;
+            }
             if a < low * (1.0 - SLACK) {
                 continue;
             }
@@ -458,6 +501,9 @@ impl<'a> Index<'a> {
             };
             let first = v.partition_point(|&b| b < s_lo / 2.0 * (1.0 - SLACK));
             for (j, &b) in v.iter().enumerate().skip(first) {
+                if out.len() > limit {
+                    return;
+                }
                 if b > s_hi {
                     break;
                 }
@@ -528,8 +574,13 @@ impl<'a> Index<'a> {
     /// preferred network kept within 1 ppm of it. Networks only interact within a run of 1-ppm neighbours,
     /// so each run is settled on its own.
     fn kept_in(&self, low: f64, high: f64) -> Vec<Raw> {
-        let mut all = Vec::new();
-        self.collect(low, high, &mut all);
+        let mut raws = Vec::new();
+        self.collect(low, high, usize::MAX, &mut raws);
+        self.kept_from(raws)
+    }
+
+    /// Deduplicates raw networks (see [`Index::in_window`]), sorted by value.
+    fn kept_from(&self, mut all: Vec<Raw>) -> Vec<Raw> {
         // Positive floats order like their bit patterns, and integer keys sort faster.
         all.sort_unstable_by_key(|r| r.ohms.to_bits());
         let mut out = Vec::with_capacity(all.len());
@@ -1188,6 +1239,21 @@ mod tests {
         let w = in_window(&s, 3, Ohms(1_000_000.5), Ohms(1_000_001.0));
         assert_eq!(w.len(), 1);
         assert_eq!(w[0].uses, vec![(1, 1), (2, 1)]);
+    }
+
+    #[test]
+    fn limited_window_refuses_past_its_limit() {
+        // Four 1k pieces, up to three parts, window 0 to 10 kΩ: 1k, 1k+1k, 1k|1k, 1k+1k+1k, 1k|1k|1k,
+        // 1k+(1k|1k), 1k|(1k+1k): seven networks, none a duplicate.
+        let s = Stock::from_parts("limit", vec![part(1000.0, 0.05, 4, "C7")]);
+        let index = Index::new(&s, 3);
+        let (low, high) = (Ohms(0.0), Ohms(10e3));
+        assert_eq!(
+            index.in_window_limited(low, high, 7),
+            Some(index.in_window(low, high))
+        );
+        assert_eq!(index.in_window(low, high).len(), 7);
+        assert_eq!(index.in_window_limited(low, high, 3), None);
     }
 
     #[test]

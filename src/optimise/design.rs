@@ -6,7 +6,7 @@ use super::search::{
     best_variants, Deviations, Effort, Evaluate, Found, Order, GAIN, IC, RC, VCE, VE,
 };
 use super::share::{allocate, ShareError, Variant};
-use crate::network::candidates::{in_window, Candidate};
+use crate::network::candidates::{Candidate, Index};
 use crate::network::{Network, PartId};
 use crate::stage::{Check, Design, Slot, SlotNetworks, SlotValues, Stage, StageError, Topology};
 use crate::stock::Stock;
@@ -98,6 +98,8 @@ pub struct Outcome {
     pub baseline: Vec<Baseline>,
     /// How the solve went.
     pub solver: SolverInfo,
+    /// Where the search was narrowed to keep a huge stock manageable.
+    pub notes: Vec<String>,
 }
 
 /// Why no design could be made.
@@ -128,6 +130,9 @@ pub enum DesignError {
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
     Scarce(String),
 }
+
+/// The most networks one slot's window may hold (before deduplication) before the window is narrowed.
+pub const CANDIDATE_LIMIT: usize = 300_000;
 
 /// Each topology's solve order: which slots to enumerate, which to scan, which is the collector slot.
 ///
@@ -298,6 +303,7 @@ pub fn design(
     let mut baseline = Vec::new();
     let mut evaluations = 0u64;
     let mut cut_short = false;
+    let mut narrowed: Vec<String> = Vec::new();
     for (si, stage) in design.stages.iter().enumerate() {
         progress(&format!(
             "stage {} of {}: {}",
@@ -320,28 +326,45 @@ pub fn design(
                 });
             }
         }
-        let candidates: Vec<Vec<Candidate>> = slots
-            .iter()
-            .map(|&s| {
-                if let Some((_, _, n)) = request
-                    .keep
-                    .iter()
-                    .find(|(ks, ksl, _)| *ks == si && *ksl == s)
+        let index = Index::new(stock, request.max_parts);
+        let mut candidates: Vec<Vec<Candidate>> = Vec::new();
+        for &s in &slots {
+            if let Some((_, _, n)) = request
+                .keep
+                .iter()
+                .find(|(ks, ksl, _)| *ks == si && *ksl == s)
+            {
+                candidates.push(vec![kept(n)]);
+                continue;
+            }
+            let x = ideal
+                .values
+                .get(s)
+                .expect("the ideal design sets every slot");
+            // A huge stock with triples can hold billions of networks near a value: narrow the window
+            // until it holds a number the search can take, and say so.
+            let mut window = request.window;
+            loop {
+                if let Some(list) = index.in_window_limited(x / window, x * window, CANDIDATE_LIMIT)
                 {
-                    return vec![kept(n)];
+                    candidates.push(list);
+                    break;
                 }
-                let x = ideal
-                    .values
-                    .get(s)
-                    .expect("the ideal design sets every slot");
-                in_window(
-                    stock,
-                    request.max_parts,
-                    x / request.window,
-                    x * request.window,
-                )
-            })
-            .collect();
+                window = window.sqrt();
+            }
+            if window < request.window {
+                narrowed.push(format!(
+                    "stage \"{}\" {s}: the stock offers so many networks that the search looked only within {} of the ideal {}",
+                    stage.name,
+                    if window < 1.5 {
+                        format!("±{} %", crate::notation::trim_number((window - 1.0) * 100.0, 2))
+                    } else {
+                        format!("×{}", crate::notation::trim_number(window, 3))
+                    },
+                    crate::notation::code(x)
+                ));
+            }
+        }
         let model = Model {
             stage,
             slots: slots.clone(),
@@ -366,9 +389,11 @@ pub fn design(
         }
         let order = solve_order(stage.topology, &slots, &ideal.values, stage.targets().rc);
         let k = request.variants.max(request.alternatives + 1);
+        let deadline = request.time_limit.map(|l| started + l);
         let (found, effort): (Vec<Found>, Effort) =
-            best_variants(&model, &order, &candidates, k, &on_hand);
+            best_variants(&model, &order, &candidates, k, &on_hand, deadline);
         evaluations += effort.evaluations;
+        cut_short |= effort.cut_short;
         if found.is_empty() {
             return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
         }
@@ -461,6 +486,7 @@ pub fn design(
             status: if proven { "optimal" } else { "time limit" }.to_string(),
             evaluations,
         },
+        notes: narrowed,
     })
 }
 
@@ -524,7 +550,7 @@ fn infeasible(
 ) -> DesignError {
     let relaxed = Relaxed(model);
     let unlimited = vec![u32::MAX; on_hand.len()];
-    let (closest, _) = best_variants(&relaxed, order, candidates, 1, &unlimited);
+    let (closest, _) = best_variants(&relaxed, order, candidates, 1, &unlimited, None);
     let reason = match closest.first() {
         None => "no stocked network comes within reach of the targets".to_string(),
         Some(f) => {

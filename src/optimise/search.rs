@@ -13,6 +13,7 @@ use crate::network::candidates::Candidate;
 use crate::network::PartId;
 use crate::units::Ohms;
 use std::collections::{BTreeMap, BinaryHeap};
+use std::time::Instant;
 
 /// The deviations the error is made of, in this order; NaN where a stage has no such target.
 pub const IC: usize = 0;
@@ -142,6 +143,8 @@ pub struct Effort {
     pub evaluations: u64,
     /// Variants that met every hard constraint and entered the K best at some point.
     pub accepted: u64,
+    /// Whether the deadline stopped the search before it finished (the variants are then the best found).
+    pub cut_short: bool,
 }
 
 /// The `k` best variants whose error is below [`GIVE_UP`], best first, meeting every hard constraint and
@@ -152,6 +155,7 @@ pub fn best_variants(
     candidates: &[Vec<Candidate>],
     k: usize,
     stock: &[u32],
+    deadline: Option<Instant>,
 ) -> (Vec<Found>, Effort) {
     let mut effort = Effort::default();
     if k == 0 || candidates.iter().any(|c| c.is_empty()) {
@@ -161,8 +165,17 @@ pub fn best_variants(
     // first pass that finds K of them has found the K best.
     let mut cap = 0.02;
     loop {
-        let heap = pass(model, order, candidates, k, stock, cap, &mut effort);
-        if heap.len() >= k || cap >= GIVE_UP {
+        let heap = pass(
+            model,
+            order,
+            candidates,
+            k,
+            stock,
+            cap,
+            deadline,
+            &mut effort,
+        );
+        if heap.len() >= k || cap >= GIVE_UP || effort.cut_short {
             let mut found: Vec<Found> = heap.into_sorted_vec().into_iter().map(|e| e.0).collect();
             found.truncate(k);
             return (found, effort);
@@ -171,6 +184,7 @@ pub fn best_variants(
     }
 }
 
+#[allow(clippy::too_many_arguments)]
 fn pass(
     model: &dyn Evaluate,
     order: &Order,
@@ -178,6 +192,7 @@ fn pass(
     k: usize,
     stock: &[u32],
     cap: f64,
+    deadline: Option<Instant>,
     effort: &mut Effort,
 ) -> BinaryHeap<Entry> {
     let n = candidates.len();
@@ -191,6 +206,7 @@ fn pass(
         heap: BinaryHeap::new(),
         values: candidates.iter().map(|c| c[0].ohms).collect(),
         picks: vec![0usize; n],
+        deadline,
         effort,
     };
     // Outer slots other than the emitter ones, each visited from its ideal value outward; the emitter slots
@@ -284,6 +300,7 @@ struct Pass<'a> {
     heap: BinaryHeap<Entry>,
     values: Vec<Ohms>,
     picks: Vec<usize>,
+    deadline: Option<Instant>,
     effort: &'a mut Effort,
 }
 
@@ -304,9 +321,22 @@ impl Pass<'_> {
         self.values[slot] = self.candidates[slot][i].ohms;
     }
 
+    /// Whether the deadline has passed; once it has, every loop unwinds.
+    fn expired(&mut self) -> bool {
+        if !self.effort.cut_short {
+            if let Some(d) = self.deadline {
+                self.effort.cut_short = Instant::now() >= d;
+            }
+        }
+        self.effort.cut_short
+    }
+
     fn outer(&mut self, plain: &[usize], orders: &[Vec<usize>], depth: usize) {
         if depth < plain.len() {
             for &i in &orders[depth] {
+                if self.expired() {
+                    return;
+                }
                 self.set(plain[depth], i);
                 self.outer(plain, orders, depth + 1);
             }
@@ -348,6 +378,9 @@ impl Pass<'_> {
 
     /// With every outer slot set: the scan slot outward from its best value, and for each, the collector slot.
     fn leaf(&mut self) {
+        if self.expired() {
+            return;
+        }
         let order = self.order;
         let scan_set: &[usize] = if order.collector.is_some() {
             &BIAS
@@ -680,7 +713,7 @@ mod tests {
                 collector_target: Some(Ohms(RL)),
             };
             let k = 1 + (case % 7);
-            let (found, _) = best_variants(&Divider, &order, &lists, k, &stock);
+            let (found, _) = best_variants(&Divider, &order, &lists, k, &stock, None);
             // Exhaustive: every combination, the same constraints.
             let mut all = Vec::new();
             for a in 0..lists[0].len() {

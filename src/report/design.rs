@@ -91,6 +91,8 @@ pub struct DesignReport {
     pub solver: SolverInfo,
     /// Safety cautions that apply.
     pub cautions: Vec<String>,
+    /// How the search was limited (a window narrowed on a huge stock), if at all.
+    pub notes: Vec<String>,
 }
 
 fn slot_codes(design: &Design, b: &Built) -> BTreeMap<String, String> {
@@ -169,6 +171,7 @@ impl DesignReport {
             pick,
             solver: outcome.solver.clone(),
             cautions,
+            notes: outcome.notes.clone(),
         }
     }
 
@@ -284,6 +287,9 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
         "\nsolver: {} variants in {:.2} s, {}",
         r.solver.variants, r.solver.seconds, r.solver.status
     );
+    for n in &r.notes {
+        let _ = writeln!(out, "  note: {n}");
+    }
     if r.solver.status != "optimal" {
         let _ = writeln!(out, "  the time limit cut the search short: this is the best verified design found, and may not be optimal");
     }

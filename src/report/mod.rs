@@ -1,5 +1,6 @@
 //! The report model: what a command found about each stage, as plain data that serialises to the `--json`
-//! contract (SI base units throughout) and that the pure renderers in [`table`] turn into text.
+//! contract (SI base units throughout) and that the pure renderers in [`table`] turn into text, [`svg`] into
+//! drawings and [`html`] into a build sheet.
 //!
 //! The stage object, `{name, topology, region, target, op, error, slots, checks}`, is shared by every command
 //! that evaluates built stages (check, ideal, and later design, fix, order and spread); it may gain keys but
@@ -7,9 +8,12 @@
 
 pub mod design;
 pub mod histogram;
+pub mod html;
 pub mod result;
 pub mod spread;
+pub mod svg;
 pub mod table;
+pub mod verify;
 
 use crate::network::Network;
 use crate::notation::{code, Series};

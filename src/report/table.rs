@@ -105,7 +105,7 @@ fn volts(x: f64) -> String {
     engineering(x, "V")
 }
 
-fn check_value(c: &CheckReport, x: f64) -> String {
+pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
     if !x.is_finite() {
         return "∞".into();
     }

@@ -768,6 +768,12 @@ impl Stage {
         )
     }
 
+    /// The two loop equations around the transistor with these resistances (a slot of the topology left
+    /// unset counts as open): what the load line is drawn from.
+    pub fn loops(&self, r: &SlotValues) -> junction::Env {
+        self.env(&Resolved::of(self, r))
+    }
+
     /// The exact operating point with these resistances, at `beta` (as given at the transistor's reference
     /// temperature; the solve shifts it to `t`). A slot of the topology left unset counts as open.
     pub fn solve(&self, r: &SlotValues, beta: f64, t: Celsius) -> OperatingPoint {

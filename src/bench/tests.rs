@@ -1,0 +1,375 @@
+//! Tests of the bench check: every fault of the catalogue, simulated and fed back as readings, is ranked
+//! first; a good build is judged good; beta is recovered where the topology lets readings show it, and
+//! checked against the hand method (beta = IC / IB from the drops across RC and RB); PNP readings are
+//! accepted negative or as magnitudes.
+
+use super::*;
+use crate::network::{Member, Network};
+use crate::stage::parse;
+use crate::units::{Ohms, Tolerance, Watts};
+
+fn part(ohms: f64, location: &str) -> Network {
+    let mut m = Member::loose(Ohms(ohms), Tolerance(0.05), Watts(0.25));
+    m.location = Some(location.to_string());
+    Network::Single(m)
+}
+
+/// An invented 15 V sensor stage (no textbook circuit): beta 90 / 160 / 320, load 3k9.
+fn stage(topology: &str, polarity: &str) -> Stage {
+    let (supply, rule) = match topology {
+        "dual-supply" => ("supply = 9\nsupply_neg = -9", ""),
+        "collector-feedback" | "base-resistor" => (
+            "supply = 15",
+            "[stage.rule]\nvrc = 0.4\nvce = 0.5\nvre = 0.1\n",
+        ),
+        "divider-split" => ("supply = 15", "[stage.rule]\ngain = 6\n"),
+        _ => ("supply = 15", ""),
+    };
+    let text = format!(
+        "[[stage]]\nname = \"bench test\"\ntopology = \"{topology}\"\npolarity = \"{polarity}\"\n{supply}\n\
+         load = \"3k9\"\n[stage.transistor]\nbeta = [90, 160, 320]\nvbe = 0.62\nvce_sat = 0.15\n{rule}"
+    );
+    parse("bench.toml", &text)
+        .unwrap_or_else(|e| panic!("{e}"))
+        .stages
+        .remove(0)
+}
+
+/// The divider stage built with a series pair in R1 and a parallel pair in R2, so faults in members of
+/// both shapes are exercised. Ideal: R1 63k4, R2 11k, RC 3k9, RE 861R.
+fn divider_build() -> (Stage, SlotNetworks) {
+    let st = stage("divider", "npn");
+    let nets = SlotNetworks::from_pairs([
+        (
+            Slot::R1,
+            Network::Series(vec![part(56e3, "A1"), part(6.8e3, "A2")]),
+        ),
+        (
+            Slot::R2,
+            Network::Parallel(vec![part(12e3, "B1"), part(150e3, "B2")]),
+        ),
+        (Slot::RC, part(3.9e3, "C1")),
+        (Slot::RE, part(820.0, "D1")),
+    ]);
+    (st, nets)
+}
+
+fn readings(n: &Nodes) -> Measured {
+    Measured {
+        vb: Some(n.vb),
+        ve: Some(n.ve),
+        vc: Some(n.vc),
+    }
+}
+
+#[test]
+fn parses_readings() {
+    let m = Measured::parse("VB=2.05,VE=1.41,VC=6.3").unwrap();
+    assert_eq!(m.vb, Some(Volts(2.05)));
+    assert_eq!(m.ve, Some(Volts(1.41)));
+    assert_eq!(m.vc, Some(Volts(6.3)));
+    let m = Measured::parse(" vc = 6.3V , vb=650mV").unwrap();
+    assert_eq!(m.ve, None);
+    assert!((m.vb.unwrap().0 - 0.65).abs() < 1e-15);
+    assert_eq!(Measured::parse("VB=-2.05").unwrap().vb, Some(Volts(-2.05)));
+    for (bad, want) in [
+        ("", "no readings"),
+        ("VB", "not a reading"),
+        ("VX=2", "not a node"),
+        ("VB=two", "VB=two"),
+        ("VB=1,vb=2", "twice"),
+    ] {
+        let e = Measured::parse(bad).unwrap_err().to_string();
+        assert!(e.contains(want), "{bad}: {e}");
+        assert!(e.starts_with("--measured"), "{e}");
+    }
+}
+
+#[test]
+fn deviation_and_verdict_bands_by_hand() {
+    // (2.05 − 2.0)/2.0 = 2.5 %; a node predicted at 0 V is judged against the 0.1 V floor: 0.003/0.1 = 3 %.
+    assert!((deviation(2.05, 2.0) - 0.025).abs() < 1e-12);
+    assert!((deviation(0.003, 0.0) - 0.03).abs() < 1e-12);
+    let (st, nets) = divider_build();
+    let p = faults::simulate(&st, &nets, None, 160.0);
+    // Every reading 4 % high is good, 8 % acceptable, 12 % a fault (the ±5 % / ±10 % bands).
+    for (k, want) in [
+        (1.04, Verdict::Good),
+        (1.08, Verdict::Acceptable),
+        (1.12, Verdict::Fault),
+    ] {
+        let m = Measured {
+            vb: Some(p.vb * k),
+            ve: Some(p.ve * k),
+            vc: Some(p.vc * k),
+        };
+        assert_eq!(verify(&st, &nets, &m).verdict, want, "{k}");
+    }
+}
+
+#[test]
+fn score_is_one_for_a_match_and_falls_with_distance() {
+    let n = Nodes {
+        vb: Volts(2.0),
+        ve: Volts(1.4),
+        vc: Volts(6.3),
+    };
+    assert!((score(&readings(&n), &n) - 1.0).abs() < 1e-15);
+    let off = |k: f64| Nodes {
+        vb: n.vb * k,
+        ve: n.ve * k,
+        vc: n.vc * k,
+    };
+    let s5 = score(&readings(&off(1.05)), &n);
+    let s20 = score(&readings(&off(1.2)), &n);
+    // By hand, 5 % high: VB 0.1/(0.05·2.1 + 0.05) = 0.64516, VE 0.07/(0.05·1.47 + 0.05) = 0.56680,
+    // VC 0.315/(0.05·6.615 + 0.05) = 0.82731; mean square 0.47398; exp(−0.23699) = 0.78900.
+    assert!((s5 - 0.789_00).abs() < 1e-5, "{s5}");
+    assert!(s20 < s5 && s20 < 0.05, "{s20}");
+}
+
+fn ranks_first(st: &Stage, nets: &SlotNetworks, f: &Fault, beta: f64) {
+    let seen = faults::simulate(st, nets, Some(f), beta);
+    let ranked = rank(st, nets, &readings(&seen));
+    let top = &ranked[0];
+    assert!(
+        top.fault == *f || top.alike.contains(f),
+        "{f}: ranked first was {} (score {:.3}, alike {:?}); {f} scored {:?}",
+        top.fault,
+        top.score,
+        top.alike,
+        ranked
+            .iter()
+            .find(|e| e.fault == *f || e.alike.contains(f))
+            .map(|e| e.score)
+    );
+    assert!(top.score > 0.999, "{f}: {}", top.score);
+}
+
+#[test]
+fn every_fault_of_the_catalogue_ranks_first_on_a_divider() {
+    let (st, nets) = divider_build();
+    let all = faults::catalogue(&st, &nets);
+    // Every class is in the catalogue.
+    for kind in [
+        "decade-high",
+        "decade-low",
+        "e12-step-up",
+        "e12-step-down",
+        "swapped",
+        "open",
+        "short",
+        "reversed-transistor",
+        "missing-ground",
+    ] {
+        assert!(all.iter().any(|f| f.kind() == kind), "{kind}");
+    }
+    for f in &all {
+        // A reversed transistor is simulated with a reverse beta of 3 (inside the fitted 1–20); every other
+        // fault with a beta away from typical, so the fit has work to do.
+        let beta = if *f == Fault::Reversed { 3.0 } else { 210.0 };
+        ranks_first(&st, &nets, f, beta);
+    }
+}
+
+#[test]
+fn faults_rank_first_on_the_other_topologies() {
+    for topology in [
+        "divider-split",
+        "collector-feedback",
+        "dual-supply",
+        "base-resistor",
+    ] {
+        let st = stage(topology, "npn");
+        let nets = e24_build(&st);
+        for f in faults::catalogue(&st, &nets) {
+            if is_null(&nets, &f) {
+                continue;
+            }
+            ranks_first(
+                &st,
+                &nets,
+                &f,
+                if f == Fault::Reversed { 3.0 } else { 160.0 },
+            );
+        }
+    }
+}
+
+#[test]
+fn verify_names_the_fault_and_what_to_check() {
+    let (st, nets) = divider_build();
+    let f = Fault::DecadeHigh(Place {
+        slot: Slot::RC,
+        member: 0,
+    });
+    let seen = faults::simulate(&st, &nets, Some(&f), 160.0);
+    let v = verify(&st, &nets, &readings(&seen));
+    assert_eq!(v.verdict, Verdict::Fault);
+    assert_eq!(v.explanations[0].fault, f);
+    assert!(v.explanations.len() <= TOP);
+    assert_eq!(
+        f.describe(&nets),
+        "RC (3k9, from C1) fitted as 39k: a misread multiplier band"
+    );
+    assert!(f.advice(&nets).contains("should read 3k9"));
+    let g = Fault::StepDown(Place {
+        slot: Slot::R1,
+        member: 1,
+    });
+    assert_eq!(
+        g.describe(&nets),
+        "the 6k8 in R1, from A2 fitted as 5k6: one E12 step low"
+    );
+}
+
+#[test]
+fn a_good_build_is_judged_good() {
+    // Parts off by up to 2 % (inside their 5 % tolerance) and a transistor with beta 230: a sound build.
+    let (st, nets) = divider_build();
+    let mut built = nets.clone();
+    for (k, slot) in [Slot::R1, Slot::R2, Slot::RC, Slot::RE]
+        .into_iter()
+        .enumerate()
+    {
+        let mut n = built.get(slot).unwrap().clone();
+        for m in n.members_mut() {
+            m.ohms = m.ohms * (1.0 + [0.02, -0.015, 0.01, -0.02][k]);
+        }
+        built.set(slot, n);
+    }
+    let seen = faults::simulate(&st, &built, None, 230.0);
+    let v = verify(&st, &nets, &readings(&seen));
+    assert_eq!(v.verdict, Verdict::Good, "{:?}", v.deviations);
+    assert!(v.as_built_score > 0.8, "{}", v.as_built_score);
+    for e in &v.explanations {
+        assert!(e.score > v.as_built_score);
+    }
+}
+
+#[test]
+fn beta_by_the_hand_method_on_a_base_resistor_stage() {
+    // Fixed base bias shows beta plainly: IB = (VCC − VB)/RB and IC = (VCC − VC)/RC, beta = IC/IB (the
+    // usual bench method, from memory of lab practice). Readings rounded to a meter's 3 digits.
+    let st = stage("base-resistor", "npn");
+    let nets = SlotNetworks::from_pairs([
+        (Slot::RC, part(3.9e3, "A")),
+        (Slot::RE, part(1e3, "B")),
+        (Slot::RB, part(1.2e6, "C")),
+    ]);
+    let seen = faults::simulate(&st, &nets, None, 210.0);
+    let round = |v: Volts| Volts(crate::notation::value::round_sig(v.0, 3));
+    let m = Measured {
+        vb: Some(round(seen.vb)),
+        ve: Some(round(seen.ve)),
+        vc: Some(round(seen.vc)),
+    };
+    let ib = (15.0 - m.vb.unwrap().0) / 1.2e6;
+    let ic = (15.0 - m.vc.unwrap().0) / 3.9e3;
+    let by_hand = ic / ib;
+    let v = verify(&st, &nets, &m);
+    let b = v.beta.expect("the design explains the readings");
+    let est = b.value.expect("a base resistor shows beta");
+    assert!(
+        b.range.0 <= by_hand && by_hand <= b.range.1,
+        "{by_hand} outside {:?}",
+        b.range
+    );
+    assert!(b.range.0 <= 210.0 && 210.0 <= b.range.1, "{:?}", b.range);
+    assert!((est / by_hand - 1.0).abs() < 0.05, "{est} vs {by_hand}");
+}
+
+#[test]
+fn a_stiff_divider_hides_beta_but_its_range_holds_the_truth() {
+    let (st, nets) = divider_build();
+    let seen = faults::simulate(&st, &nets, None, 250.0);
+    let v = verify(&st, &nets, &readings(&seen));
+    let b = v.beta.expect("the design explains the readings");
+    assert!(b.range.0 <= 250.0 && 250.0 <= b.range.1, "{:?}", b.range);
+    // 5 % parts on a divider with stiffness 10 leave beta loose.
+    assert!(b.value.is_none() || b.range.1 / b.range.0 <= BETA_RANGE_MAX);
+}
+
+fn e24_build(st: &Stage) -> SlotNetworks {
+    let ideal = st.ideal().unwrap();
+    SlotNetworks::from_pairs(
+        ideal
+            .values
+            .iter()
+            .map(|(s, v)| (s, part(crate::notation::Series::E24.nearest(v).0, "P"))),
+    )
+}
+
+#[test]
+fn pnp_readings_negative_or_as_magnitudes() {
+    let st = stage("divider", "pnp");
+    let nets = e24_build(&st);
+    let f = Fault::Open(Place {
+        slot: Slot::RE,
+        member: 0,
+    });
+    let seen = faults::simulate(&st, &nets, Some(&f), 160.0);
+    // The real voltages are the NPN mirror's negated; a magnitude is the mirror's own value.
+    let real = Measured {
+        vb: Some(-seen.vb),
+        ve: Some(-seen.ve),
+        vc: Some(-seen.vc),
+    };
+    let a = verify(&st, &nets, &real);
+    let b = verify(&st, &nets, &readings(&seen));
+    assert_eq!(a.measured, b.measured);
+    assert_eq!(a.measured, readings(&seen));
+    assert_eq!(a.explanations[0].fault, f);
+}
+
+#[test]
+fn pnp_dual_supply_readings_carry_their_signs() {
+    // Here the nodes sit on both sides of ground (an open RC pulls the collector below it), so the meter's
+    // signs are kept and negated into the mirror.
+    let st = stage("dual-supply", "pnp");
+    let nets = e24_build(&st);
+    let f = Fault::Open(Place {
+        slot: Slot::RC,
+        member: 0,
+    });
+    let seen = faults::simulate(&st, &nets, Some(&f), 160.0);
+    assert!(seen.vc.0 < 0.0 && seen.ve.0 < 0.0, "{seen:?}");
+    let real = Measured {
+        vb: Some(-seen.vb),
+        ve: Some(-seen.ve),
+        vc: Some(-seen.vc),
+    };
+    let v = verify(&st, &nets, &real);
+    assert_eq!(v.measured, readings(&seen));
+    let top = &v.explanations[0];
+    assert!(top.fault == f || top.alike.contains(&f), "{top:?}");
+}
+
+#[test]
+fn partial_readings_still_rank() {
+    // Only the collector measured: a shorted RC reads exactly the supply there.
+    let (st, nets) = divider_build();
+    let f = Fault::Short(Place {
+        slot: Slot::RC,
+        member: 0,
+    });
+    let seen = faults::simulate(&st, &nets, Some(&f), 160.0);
+    assert_eq!(seen.vc, Volts(15.0));
+    let m = Measured {
+        vc: Some(seen.vc),
+        ..Measured::default()
+    };
+    let v = verify(&st, &nets, &m);
+    assert_eq!(v.deviations[0], None);
+    assert!(v
+        .explanations
+        .iter()
+        .any(|e| e.fault == f || e.alike.contains(&f)));
+}
+
+#[test]
+fn missing_ground_floats_every_node_to_the_supply() {
+    let (st, nets) = divider_build();
+    let n = faults::simulate(&st, &nets, Some(&Fault::MissingGround), 160.0);
+    assert_eq!((n.vb, n.ve, n.vc), (Volts(15.0), Volts(15.0), Volts(15.0)));
+}

@@ -1,0 +1,420 @@
+//! The bench report of `biasfit verify`: the readings against the prediction, the verdict, the beta the
+//! readings point to and the ranked build faults. [`VerifyReport`] is the `--json` schema,
+//!
+//! ```text
+//! {"verdict":"good"|"acceptable"|"fault", "deviations":{"vb","ve","vc"}, "beta_estimate",
+//!  "explanations":[{"fault","slot","score","predicted":{"vb","ve","vc"}}]}
+//! ```
+//!
+//! extended with the stage, the readings, the prediction and its beta range, the beta's range, and per
+//! explanation the member, the other slot of a swap, the fitted beta, words for a technician and the faults
+//! that read the same. Voltages are in volts, in the NPN frame (a PNP stage's magnitudes), like every stage
+//! report. [`render`] is the text for people.
+
+use crate::bench::{Explanation, Fault, Nodes, Verdict, Verification, NODES};
+use crate::notation::{engineering, trim_number};
+use crate::stage::{SlotNetworks, Stage};
+use serde::Serialize;
+use std::fmt::Write;
+
+/// Node voltages, volts.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct NodeReport {
+    /// Base.
+    pub vb: f64,
+    /// Emitter.
+    pub ve: f64,
+    /// Collector.
+    pub vc: f64,
+}
+
+impl From<&Nodes> for NodeReport {
+    fn from(n: &Nodes) -> NodeReport {
+        NodeReport {
+            vb: n.vb.0,
+            ve: n.ve.0,
+            vc: n.vc.0,
+        }
+    }
+}
+
+/// Per-node values that may be missing (a node not measured).
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct MaybeNodes {
+    /// Base.
+    pub vb: Option<f64>,
+    /// Emitter.
+    pub ve: Option<f64>,
+    /// Collector.
+    pub vc: Option<f64>,
+}
+
+impl From<[Option<f64>; 3]> for MaybeNodes {
+    fn from(a: [Option<f64>; 3]) -> MaybeNodes {
+        MaybeNodes {
+            vb: a[0],
+            ve: a[1],
+            vc: a[2],
+        }
+    }
+}
+
+/// The member a fault is in.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct MemberReport {
+    /// Its position in the slot's network, from 1.
+    pub index: usize,
+    /// Its nominal value, ohms.
+    pub ohms: f64,
+    /// Where it came from, if known.
+    pub location: Option<String>,
+    /// The value the fault fits instead, ohms (wrong-value faults).
+    pub fitted_ohms: Option<f64>,
+}
+
+/// A fault that reads the same as the one it is listed under.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct AlikeReport {
+    /// Its kind.
+    pub fault: &'static str,
+    /// Its slot, if any.
+    pub slot: Option<&'static str>,
+    /// In words.
+    pub description: String,
+}
+
+/// One ranked explanation.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct ExplanationReport {
+    /// The fault's kind: decade-high, decade-low, e12-step-up, e12-step-down, swapped, open, short,
+    /// reversed-transistor, missing-ground.
+    pub fault: &'static str,
+    /// The slot (the first of a swapped pair), or null for the transistor and the ground.
+    pub slot: Option<&'static str>,
+    /// How well the fault's prediction matches the readings, 0 to 1.
+    pub score: f64,
+    /// The node voltages it predicts.
+    pub predicted: NodeReport,
+    /// The other slot of a swap.
+    pub with: Option<&'static str>,
+    /// The member it is in, for faults of one resistor.
+    pub member: Option<MemberReport>,
+    /// The beta (reverse beta for a reversed transistor) at the best match.
+    pub beta: f64,
+    /// The fault in a technician's words.
+    pub description: String,
+    /// What to check to confirm it.
+    pub advice: String,
+    /// Faults a meter cannot tell from this one.
+    pub alike: Vec<AlikeReport>,
+}
+
+/// Everything `biasfit verify` found.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct VerifyReport {
+    /// The stage's name.
+    pub stage: String,
+    /// good, acceptable or fault.
+    pub verdict: &'static str,
+    /// Each reading's relative deviation from the prediction at typical beta.
+    pub deviations: MaybeNodes,
+    /// The beta the readings point to, or null when they do not pin it down (or the design cannot explain
+    /// them).
+    pub beta_estimate: Option<f64>,
+    /// The range of beta the readings allow, given tolerances and a meter's resolution.
+    pub beta_range: Option<[f64; 2]>,
+    /// Faults that explain the readings better than the design does, best first.
+    pub explanations: Vec<ExplanationReport>,
+    /// The readings, volts (NPN frame).
+    pub measured: MaybeNodes,
+    /// The prediction at typical beta, volts.
+    pub predicted: NodeReport,
+    /// The prediction at min beta.
+    pub predicted_min_beta: NodeReport,
+    /// The prediction at max beta.
+    pub predicted_max_beta: NodeReport,
+    /// How well the stage as designed, with beta in its range, matches the readings.
+    pub as_built_score: f64,
+    /// Whether this is a PNP stage (voltages are then its NPN mirror's).
+    pub pnp: bool,
+}
+
+fn alike(f: &Fault, nets: &SlotNetworks) -> AlikeReport {
+    AlikeReport {
+        fault: f.kind(),
+        slot: f.slot().map(|s| s.name()),
+        description: f.describe(nets),
+    }
+}
+
+fn explanation(e: &Explanation, nets: &SlotNetworks) -> ExplanationReport {
+    let member = e.fault.place().and_then(|p| {
+        crate::bench::faults::member(nets, p).map(|m| MemberReport {
+            index: p.member + 1,
+            ohms: m.ohms.0,
+            location: m.location.clone(),
+            fitted_ohms: e.fault.fitted(nets).map(|o| o.0),
+        })
+    });
+    ExplanationReport {
+        fault: e.fault.kind(),
+        slot: e.fault.slot().map(|s| s.name()),
+        score: e.score,
+        predicted: NodeReport::from(&e.predicted),
+        with: match e.fault {
+            Fault::Swapped(_, b) => Some(b.name()),
+            _ => None,
+        },
+        member,
+        beta: e.beta,
+        description: e.fault.describe(nets),
+        advice: e.fault.advice(nets),
+        alike: e.alike.iter().map(|f| alike(f, nets)).collect(),
+    }
+}
+
+impl VerifyReport {
+    /// The report of a verification of this stage and build.
+    pub fn new(stage: &Stage, nets: &SlotNetworks, v: &Verification) -> VerifyReport {
+        VerifyReport {
+            stage: stage.name.clone(),
+            verdict: v.verdict.name(),
+            deviations: MaybeNodes::from(v.deviations),
+            beta_estimate: v.beta.and_then(|b| b.value),
+            beta_range: v.beta.map(|b| [b.range.0, b.range.1]),
+            explanations: v
+                .explanations
+                .iter()
+                .map(|e| explanation(e, nets))
+                .collect(),
+            measured: MaybeNodes::from(v.measured.as_array()),
+            predicted: NodeReport::from(&v.predicted),
+            predicted_min_beta: NodeReport::from(&v.predicted_min_beta),
+            predicted_max_beta: NodeReport::from(&v.predicted_max_beta),
+            as_built_score: v.as_built_score,
+            pnp: stage.polarity == crate::stage::Polarity::Pnp,
+        }
+    }
+
+    /// Whether the build was judged faulty.
+    pub fn is_fault(&self) -> bool {
+        self.verdict == Verdict::Fault.name()
+    }
+}
+
+fn volts(x: f64) -> String {
+    engineering(x, "V")
+}
+
+fn percent(x: f64) -> String {
+    if !x.is_finite() {
+        return "∞".into();
+    }
+    let p = x * 100.0;
+    if p.abs() < 0.05 {
+        "0 %".into()
+    } else {
+        format!("{:+.1} %", p)
+    }
+}
+
+fn judge(d: f64) -> &'static str {
+    let d = d.abs();
+    if d <= crate::bench::GOOD {
+        "good"
+    } else if d <= crate::bench::ACCEPTABLE {
+        "acceptable"
+    } else {
+        "FAULT"
+    }
+}
+
+/// Pads cells into aligned columns, the first `left` left-aligned.
+fn columns(rows: &[Vec<String>], left: usize, indent: &str) -> String {
+    let n = rows.iter().map(Vec::len).max().unwrap_or(0);
+    let widths: Vec<usize> = (0..n)
+        .map(|c| {
+            rows.iter()
+                .filter_map(|r| r.get(c))
+                .map(|s| s.chars().count())
+                .max()
+                .unwrap_or(0)
+        })
+        .collect();
+    let mut out = String::new();
+    for r in rows {
+        let mut line = String::from(indent);
+        for (c, cell) in r.iter().enumerate() {
+            if c > 0 {
+                line.push_str("  ");
+            }
+            let pad = " ".repeat(widths[c] - cell.chars().count());
+            if c < left {
+                line.push_str(cell);
+                line.push_str(&pad);
+            } else {
+                line.push_str(&pad);
+                line.push_str(cell);
+            }
+        }
+        out.push_str(line.trim_end());
+        out.push('\n');
+    }
+    out
+}
+
+/// The verification as text for people.
+pub fn render(r: &VerifyReport, heading: &str) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "verify {heading}");
+    if r.pnp {
+        out.push_str("  (pnp: shown as its npn mirror, so voltages are magnitudes)\n");
+    }
+    out.push('\n');
+    let pred = [r.predicted.vb, r.predicted.ve, r.predicted.vc];
+    let lo = [
+        r.predicted_min_beta.vb,
+        r.predicted_min_beta.ve,
+        r.predicted_min_beta.vc,
+    ];
+    let hi = [
+        r.predicted_max_beta.vb,
+        r.predicted_max_beta.ve,
+        r.predicted_max_beta.vc,
+    ];
+    let meas = [r.measured.vb, r.measured.ve, r.measured.vc];
+    let dev = [r.deviations.vb, r.deviations.ve, r.deviations.vc];
+    let mut rows = vec![vec![
+        "node".to_string(),
+        "expected".into(),
+        "min–max beta".into(),
+        "measured".into(),
+        "deviation".into(),
+        String::new(),
+    ]];
+    for k in 0..3 {
+        let (a, b) = (lo[k].min(hi[k]), lo[k].max(hi[k]));
+        rows.push(vec![
+            NODES[k].to_string(),
+            volts(pred[k]),
+            format!("{} – {}", volts(a), volts(b)),
+            meas[k].map(volts).unwrap_or_else(|| "-".into()),
+            dev[k].map(percent).unwrap_or_default(),
+            dev[k].map(|d| judge(d).to_string()).unwrap_or_default(),
+        ]);
+    }
+    // Left-align the last (judgement) column by padding it ourselves.
+    let table = columns(&rows, 1, "  ");
+    out.push_str(&table);
+    out.push('\n');
+
+    let worst = (0..3)
+        .filter_map(|k| dev[k].map(|d| (k, d)))
+        .max_by(|a, b| a.1.abs().total_cmp(&b.1.abs()));
+    match (r.verdict, worst) {
+        ("good", _) => out.push_str("  verdict: good (every reading within ±5 % of the design)\n"),
+        ("acceptable", _) => {
+            out.push_str("  verdict: acceptable (every reading within ±10 % of the design)\n")
+        }
+        (_, Some((k, d))) => {
+            let _ = writeln!(
+                out,
+                "  verdict: fault ({} is {} {}, beyond ±10 %)",
+                NODES[k],
+                percent(d.abs()).trim_start_matches('+'),
+                if d < 0.0 { "low" } else { "high" }
+            );
+        }
+        _ => out.push_str("  verdict: fault\n"),
+    }
+    match (r.beta_estimate, r.beta_range) {
+        (Some(b), Some([lo, hi])) => {
+            let _ = writeln!(
+                out,
+                "  beta: about {} (the readings allow {} to {})",
+                trim_number(b, 2),
+                trim_number(lo, 2),
+                trim_number(hi, 2)
+            );
+        }
+        (None, Some([lo, hi])) => {
+            let _ = writeln!(
+                out,
+                "  beta: not pinned down by these readings (anything from {} to {} fits): the bias is \
+                 stiff against beta, which is its purpose",
+                trim_number(lo, 2),
+                trim_number(hi, 2)
+            );
+        }
+        _ => out
+            .push_str("  beta: not estimated: the design as drawn cannot explain these readings\n"),
+    }
+    let _ = writeln!(
+        out,
+        "  as designed, with beta in its range, the readings match {}",
+        match_percent(r.as_built_score)
+    );
+
+    if r.explanations.is_empty() {
+        if r.verdict == "fault" {
+            out.push_str(
+                "\n  no single fault in the catalogue explains these readings: check the supply voltage, \
+                 the meter's ground lead and the transistor's type\n",
+            );
+        }
+        return out;
+    }
+    out.push_str("\n  likely faults, best first:\n");
+    for (i, e) in r.explanations.iter().enumerate() {
+        let _ = writeln!(
+            out,
+            "  {}. {:>5}  {}",
+            i + 1,
+            match_percent(e.score),
+            e.description
+        );
+        let _ = writeln!(
+            out,
+            "             would read VB {}, VE {}, VC {}{}",
+            volts(e.predicted.vb),
+            volts(e.predicted.ve),
+            volts(e.predicted.vc),
+            if e.fault == "reversed-transistor" {
+                format!(" (reverse beta {})", trim_number(e.beta, 2))
+            } else {
+                String::new()
+            }
+        );
+        let _ = writeln!(out, "             check: {}", e.advice);
+        if !e.alike.is_empty() {
+            let names: Vec<&str> = e.alike.iter().map(|a| a.description.as_str()).collect();
+            let _ = writeln!(out, "             reads the same as: {}", names.join("; "));
+        }
+    }
+    out
+}
+
+/// A score as a match percentage ("97 %").
+fn match_percent(s: f64) -> String {
+    format!(
+        "{} %",
+        trim_number((s * 100.0).clamp(0.0, 100.0).round(), 3)
+    )
+}
+
+/// The heading of a verification: the stage, its topology and its parts.
+pub fn heading(stage: &Stage, nets: &SlotNetworks) -> String {
+    let parts: Vec<String> = stage
+        .slots()
+        .into_iter()
+        .filter_map(|s| nets.get(s).map(|n| format!("{s}={}", n.notation())))
+        .collect();
+    format!(
+        "stage \"{}\": {}, {}, {} supply; built {}",
+        stage.name,
+        stage.topology,
+        stage.polarity,
+        volts(stage.supply.0),
+        parts.join(" ")
+    )
+}
