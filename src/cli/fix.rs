@@ -27,13 +27,18 @@ pub struct FixArgs {
     #[arg(long, value_name = "K", default_value_t = 5)]
     pub top: usize,
     /// Check power: this much is dissipated in the whole network (0.3W, 250mW)
-    #[arg(long, value_name = "P", conflicts_with_all = ["volts", "amps"])]
+    #[arg(long, value_name = "P", conflicts_with_all = ["volts", "amps"], allow_negative_numbers = true)]
     pub watts: Option<String>,
     /// Check power: this voltage is across the whole network (12V)
-    #[arg(long, value_name = "V", conflicts_with = "amps")]
+    #[arg(
+        long,
+        value_name = "V",
+        conflicts_with = "amps",
+        allow_negative_numbers = true
+    )]
     pub volts: Option<String>,
     /// Check power: this current flows through the whole network (2mA)
-    #[arg(long, value_name = "I")]
+    #[arg(long, value_name = "I", allow_negative_numbers = true)]
     pub amps: Option<String>,
     /// The share of its rating each part may dissipate in the power check (0.5 or 50%)
     #[arg(long, value_name = "FRACTION", default_value = "50%")]

@@ -14,15 +14,16 @@
 //! band, then more pieces left of the scarcest part, then the earlier shape (single, series pair, parallel
 //! pair, series triple, parallel triple, `a+(b|c)`, `a|(b+c)`), then the lower part ids in member order; each
 //! is kept unless a network already kept lies within 1 ppm. No two kept networks are within 1 ppm, and every
-//! dropped network has a preferred one kept within 1 ppm, so no value is left unrepresented. Members are written dominant part first: series largest first, parallel smallest
-//! first, `a+(b|c)` and `a|(b+c)` with the lone part first.
+//! dropped network has a preferred one kept within 1 ppm, so no value is left unrepresented.
+//!
+//! Members are written dominant part first: series largest first, parallel smallest first (by value, then
+//! part id), and `a+(b|c)` and `a|(b+c)` with the lone part first.
 //!
 //! It relies on [`crate::stock::Stock`] for the parts and on [`Network`] for what a network is.
 
 use super::{Member, Network, PartId};
 use crate::stock::Stock;
 use crate::units::Ohms;
-use std::cmp::{Ordering, Reverse};
 
 /// Two networks whose resistances differ by no more than this fraction count as the same value (1 ppm).
 pub const SAME_VALUE: f64 = 1e-6;
@@ -114,14 +115,16 @@ struct Raw {
     m: [u32; 3],
 }
 
-/// A network that survived deduplication, with what ranking needs.
-#[derive(Clone, Copy, Debug)]
-struct Kept {
-    raw: Raw,
-    band: (f64, f64),
-    /// The band's half-width in parts per billion, so that rounding noise cannot decide a tie.
-    tol_key: i64,
-    left: u32,
+/// The preference order as plain integers, compared field by field: parts; the band's half-width in parts per
+/// billion (so that rounding noise cannot decide a tie); pieces left, inverted; the shape; the part ids in
+/// member order (unused slots 0: equal shapes have equal part counts, so this is exact).
+#[derive(Clone, Copy, Debug, PartialEq, Eq, PartialOrd, Ord)]
+struct Preference {
+    parts: u8,
+    tol: i64,
+    not_left: u32,
+    shape: Shape,
+    ids: [u32; 3],
 }
 
 /// A stock prepared for repeated candidate searches: its usable parts sorted by value, in O(N log N).
@@ -248,15 +251,15 @@ impl<'a> Index<'a> {
             let everything = low <= 0.0 && high >= ceiling;
             let kept = self.kept_in(low, high);
             if everything || kept.len() >= k {
-                let mut ranked: Vec<(f64, Kept)> = kept
+                let mut ranked: Vec<(f64, Preference, Raw)> = kept
                     .into_iter()
-                    .map(|c| (((c.raw.ohms - t) / t).abs(), c))
+                    .map(|r| (((r.ohms - t) / t).abs(), self.preference(&r), r))
                     .collect();
-                ranked.sort_by(|a, b| a.0.total_cmp(&b.0).then_with(|| self.prefer(&a.1, &b.1)));
+                ranked.sort_by(|a, b| a.0.total_cmp(&b.0).then(a.1.cmp(&b.1)));
                 return ranked
-                    .into_iter()
+                    .iter()
                     .take(k)
-                    .map(|(_, c)| self.candidate(&c))
+                    .map(|(_, _, r)| self.candidate(r))
                     .collect();
             }
             rho *= 4.0;
@@ -547,30 +550,21 @@ impl<'a> Index<'a> {
             .unwrap_or(0)
     }
 
-    fn keep(&self, raw: Raw) -> Kept {
-        let band = self.band(&raw);
-        let half = (-band.0).max(band.1);
-        Kept {
-            raw,
-            band,
-            tol_key: (half * 1e9).round() as i64,
-            left: self.left(&raw),
+    /// Where a network stands in the order of preference.
+    fn preference(&self, raw: &Raw) -> Preference {
+        let (low, high) = self.band(raw);
+        let n = raw.shape.parts();
+        let mut ids = [0; 3];
+        for (o, &x) in ids.iter_mut().zip(&raw.m[..n]) {
+            *o = self.entries[x as usize].id as u32;
         }
-    }
-
-    /// Which of two networks of (nearly) the same value to keep: `Less` means `a`.
-    fn prefer(&self, a: &Kept, b: &Kept) -> Ordering {
-        // Equal shapes have equal part counts, so comparing all three slots (unused ones are 0) is exact.
-        let ids = |k: &Kept| -> [PartId; 3] {
-            let mut out = [0; 3];
-            for (o, &x) in out.iter_mut().zip(&k.raw.m[..k.raw.shape.parts()]) {
-                *o = self.entries[x as usize].id;
-            }
-            out
-        };
-        (a.raw.shape.parts(), a.tol_key, Reverse(a.left), a.raw.shape)
-            .cmp(&(b.raw.shape.parts(), b.tol_key, Reverse(b.left), b.raw.shape))
-            .then_with(|| ids(a).cmp(&ids(b)))
+        Preference {
+            parts: n as u8,
+            tol: ((-low).max(high) * 1e9).round() as i64,
+            not_left: u32::MAX - self.left(raw),
+            shape: raw.shape,
+            ids,
+        }
     }
 
     /// The networks with a value in [low, high], deduplicated, sorted by value.
@@ -579,57 +573,62 @@ impl<'a> Index<'a> {
     /// within 1 ppm. So no two kept networks are within 1 ppm of each other, and every dropped one has a
     /// preferred network kept within 1 ppm of it. Networks only interact within a run of 1-ppm neighbours,
     /// so each run is settled on its own.
-    fn kept_in(&self, low: f64, high: f64) -> Vec<Kept> {
+    fn kept_in(&self, low: f64, high: f64) -> Vec<Raw> {
         let mut raws = Vec::new();
         self.collect(low, high, usize::MAX, &mut raws);
         self.kept_from(raws)
     }
 
-    /// Deduplicates raw networks (see [`Index::in_window`]).
-    fn kept_from(&self, mut raws: Vec<Raw>) -> Vec<Kept> {
-        raws.sort_by(|a, b| a.ohms.total_cmp(&b.ohms));
-        let all: Vec<Kept> = raws.into_iter().map(|r| self.keep(r)).collect();
+    /// Deduplicates raw networks (see [`Index::in_window`]), sorted by value.
+    fn kept_from(&self, mut all: Vec<Raw>) -> Vec<Raw> {
+        // Positive floats order like their bit patterns, and integer keys sort faster.
+        all.sort_unstable_by_key(|r| r.ohms.to_bits());
         let mut out = Vec::with_capacity(all.len());
         let mut start = 0;
         while start < all.len() {
             let mut end = start + 1;
-            while end < all.len() && close(all[end - 1].raw.ohms, all[end].raw.ohms) {
+            while end < all.len() && close(all[end - 1].ohms, all[end].ohms) {
                 end += 1;
             }
             let run = &all[start..end];
+            start = end;
             if run.len() == 1 {
                 out.push(run[0]);
-            } else {
-                let mut order: Vec<&Kept> = run.iter().collect();
-                order.sort_by(|a, b| self.prefer(a, b));
-                // Kept values by their bits: positive floats order like their bit patterns.
-                let mut kept = std::collections::BTreeMap::new();
-                for k in order {
-                    let x = k.raw.ohms;
-                    let bits = x.to_bits();
-                    let below = kept
-                        .range(..=bits)
-                        .next_back()
-                        .map(|(_, v): (_, &Kept)| v.raw.ohms);
-                    let above = kept
-                        .range(bits..)
-                        .next()
-                        .map(|(_, v): (_, &Kept)| v.raw.ohms);
-                    let taken =
-                        below.is_some_and(|b| close(b, x)) || above.is_some_and(|a| close(x, a));
-                    if !taken {
-                        kept.insert(bits, *k);
-                    }
-                }
-                out.extend(kept.into_values());
+                continue;
             }
-            start = end;
+            // Each member's neighbours within 1 ppm are a stretch of the run around it.
+            let mut reach = Vec::with_capacity(run.len());
+            let (mut lo, mut hi) = (0, 0);
+            for (i, r) in run.iter().enumerate() {
+                while !close(run[lo].ohms, r.ohms) {
+                    lo += 1;
+                }
+                hi = hi.max(i);
+                while hi + 1 < run.len() && close(r.ohms, run[hi + 1].ohms) {
+                    hi += 1;
+                }
+                reach.push((lo, hi));
+            }
+            let mut order: Vec<(Preference, u32)> = run
+                .iter()
+                .enumerate()
+                .map(|(i, r)| (self.preference(r), i as u32))
+                .collect();
+            order.sort_unstable();
+            let mut kept = vec![false; run.len()];
+            for (_, i) in order {
+                let (lo, hi) = reach[i as usize];
+                if !kept[lo..=hi].contains(&true) {
+                    kept[i as usize] = true;
+                }
+            }
+            out.extend(run.iter().zip(kept).filter(|(_, k)| *k).map(|(r, _)| *r));
         }
         out
     }
 
-    fn candidate(&self, k: &Kept) -> Candidate {
-        let n = k.raw.shape.parts();
+    fn candidate(&self, raw: &Raw) -> Candidate {
+        let n = raw.shape.parts();
         let member = |x: u32| {
             let e = &self.entries[x as usize];
             let part = &self.stock.parts[e.id];
@@ -641,8 +640,8 @@ impl<'a> Index<'a> {
                 part: Some(e.id),
             })
         };
-        let m = k.raw.m;
-        let network = match k.raw.shape {
+        let m = raw.m;
+        let network = match raw.shape {
             Shape::Single => member(m[0]),
             Shape::Series2 => Network::Series(vec![member(m[0]), member(m[1])]),
             Shape::Parallel2 => Network::Parallel(vec![member(m[0]), member(m[1])]),
@@ -671,11 +670,11 @@ impl<'a> Index<'a> {
         }
         Candidate {
             network,
-            ohms: Ohms(k.raw.ohms),
+            ohms: Ohms(raw.ohms),
             uses,
             parts: n,
-            band: k.band,
-            left: k.left,
+            band: self.band(raw),
+            left: self.left(raw),
         }
     }
 }
@@ -698,6 +697,7 @@ mod tests {
     use super::*;
     use crate::stock::Part;
     use crate::units::{Tolerance, Watts};
+    use std::cmp::{Ordering, Reverse};
 
     /// SplitMix64 (Steele, Lea and Flood, "Fast splittable pseudorandom number generators", OOPSLA 2014):
     /// a tiny, fixed-seed generator so the random stocks are the same on every run.
@@ -1239,6 +1239,21 @@ mod tests {
         let w = in_window(&s, 3, Ohms(1_000_000.5), Ohms(1_000_001.0));
         assert_eq!(w.len(), 1);
         assert_eq!(w[0].uses, vec![(1, 1), (2, 1)]);
+    }
+
+    #[test]
+    fn limited_window_refuses_past_its_limit() {
+        // Four 1k pieces, up to three parts, window 0 to 10 kΩ: 1k, 1k+1k, 1k|1k, 1k+1k+1k, 1k|1k|1k,
+        // 1k+(1k|1k), 1k|(1k+1k): seven networks, none a duplicate.
+        let s = Stock::from_parts("limit", vec![part(1000.0, 0.05, 4, "C7")]);
+        let index = Index::new(&s, 3);
+        let (low, high) = (Ohms(0.0), Ohms(10e3));
+        assert_eq!(
+            index.in_window_limited(low, high, 7),
+            Some(index.in_window(low, high))
+        );
+        assert_eq!(index.in_window(low, high).len(), 7);
+        assert_eq!(index.in_window_limited(low, high, 3), None);
     }
 
     #[test]

@@ -460,3 +460,174 @@ fn where_text(parts: &[FixPart]) -> String {
         .collect::<Vec<_>>()
         .join("; ")
 }
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::stock::Part;
+
+    fn part(ohms: f64, tol: f64, power: f64, qty: u32, location: &str) -> Part {
+        Part {
+            ohms: Ohms(ohms),
+            tolerance: Tolerance(tol),
+            power: Watts(power),
+            qty,
+            locations: vec![location.to_string()],
+            notes: Vec::new(),
+            lines: Vec::new(),
+        }
+    }
+
+    fn drawer() -> Stock {
+        Stock::from_parts(
+            "drawer.csv",
+            vec![
+                part(10e3, 0.05, 0.25, 4, "D9"),
+                part(4700.0, 0.01, 0.25, 2, "C8"),
+                part(2200.0, 0.05, 0.25, 2, "C2"),
+                part(1000.0, 0.05, 0.5, 1, "C7"),
+                part(15e3, 0.05, 0.25, 0, "D4"),
+            ],
+        )
+    }
+
+    fn request(target: f64, load: Option<Load>) -> Request {
+        Request {
+            target: Ohms(target),
+            max_parts: 2,
+            top: 3,
+            load,
+            derate: 0.5,
+        }
+    }
+
+    #[test]
+    fn renders_the_table() {
+        // 10k + 4k7 = 14k7 exactly. 10k + 2k2 = 12k2 is 12.2/14.7 − 1 = −17.0 %, 10k + 1k = 11k is −25.2 %.
+        // Band of 10k 5 % + 4k7 1 %: (500 + 47) / 14700 = ±3.72 %. Nearest E24 to 14k7 is 15k (+2.04 %); 14k7
+        // is itself E96 (IEC 60063). The empty 15k bin is never offered.
+        let report = FixReport::build(&drawer(), &request(14_700.0, None));
+        let want = "\
+fix 14k7 from drawer.csv, up to 2 parts
+
+  #  network  resistance  error    band     where
+  1  10k+4k7  14k7        exact    ±3.72 %  10k in D9; 4k7 in C8
+  2  10k+2k2  12k2        -17 %    ±5 %     10k in D9; 2k2 in C2
+  3  10k+1k   11k         -25.2 %  ±5 %     10k in D9; 1k in C7
+
+  nearest single value: E24 15k +2.04 % (not on hand), E96 14k7 exact (not on hand)
+";
+        assert_eq!(report.render(false), want);
+    }
+
+    #[test]
+    fn power_shares_by_hand() {
+        // 0.3 W in 10k + 4k7: the current is √(0.3 / 14700) and each part takes its share of the resistance,
+        // 0.3 × 10/14.7 = 204.1 mW (81.6 % of 0.25 W) and 0.3 × 4.7/14.7 = 95.9 mW; the 10k is over its
+        // 125 mW limit at 50 %. The voltage is √(0.3 × 14700) = 66.4 V, above the 50 V caution.
+        let report = FixReport::build(&drawer(), &request(14_700.0, Some(Load::Watts(Watts(0.3)))));
+        let n = &report.networks[0];
+        let d = n.parts[0].dissipation.unwrap().0;
+        assert!((d - 0.3 * 10.0 / 14.7).abs() < 1e-12);
+        assert!((n.parts[1].dissipation.unwrap().0 - 0.3 * 4.7 / 14.7).abs() < 1e-12);
+        assert_eq!(n.parts[0].limit, Some(Watts(0.125)));
+        assert_eq!(n.power_ok, Some(false));
+        assert!((n.hottest.unwrap() - 0.3 * 10.0 / 14.7 / 0.25).abs() < 1e-12);
+        assert!((n.volts.unwrap().0 - (0.3f64 * 14_700.0).sqrt()).abs() < 1e-9);
+        assert!(report.power_failed());
+        assert!(report.notes.iter().any(|m| m.contains("50 V DC or more")));
+        let text = report.render(false);
+        assert!(text.contains("81.6 % over"), "{text}");
+        assert!(
+            text.contains("each part held to 50 % of its rating"),
+            "{text}"
+        );
+        // 1 mA through 2k2 | 2k2 (1k1): 1.1 V across, 0.55 mW in each half; well within, no caution.
+        let report = FixReport::build(&drawer(), &request(1100.0, Some(Load::Amps(Amps(1e-3)))));
+        let n = &report.networks[0];
+        assert_eq!(n.network, "2k2|2k2");
+        for p in &n.parts {
+            assert!((p.dissipation.unwrap().0 - 0.55e-3).abs() < 1e-15);
+        }
+        assert_eq!(n.power_ok, Some(true));
+        assert!(!report.power_failed());
+        assert!(report.notes.is_empty(), "{:?}", report.notes);
+        // 12 V across 10k + 4k7: I = 12 / 14700, the 10k takes 12² × 10000 / 14700² = 6.66 mW.
+        let report = FixReport::build(
+            &drawer(),
+            &request(14_700.0, Some(Load::Volts(Volts(12.0)))),
+        );
+        let d = report.networks[0].parts[0].dissipation.unwrap().0;
+        assert!((d - 144.0 * 10e3 / 14_700f64.powi(2)).abs() < 1e-15);
+    }
+
+    #[test]
+    fn best_that_passes_is_pointed_out() {
+        // 20 V across a 1/8 W 4k7: 400 / 4700 = 85.1 mW, over its 62.5 mW limit. 10k | 10k (5k, +6.38 %) of
+        // 0.5 W parts: 400 / 10000 = 40 mW each, within 250 mW.
+        let stock = Stock::from_parts(
+            "hot.csv",
+            vec![
+                part(4700.0, 0.05, 0.125, 2, "C1"),
+                part(10e3, 0.05, 0.5, 2, "D1"),
+            ],
+        );
+        let report = FixReport::build(&stock, &request(4700.0, Some(Load::Volts(Volts(20.0)))));
+        assert_eq!(report.networks[0].network, "4k7");
+        assert!(
+            (report.networks[0].parts[0].dissipation.unwrap().0 - 400.0 / 4700.0).abs() < 1e-15
+        );
+        assert_eq!(report.networks[0].power_ok, Some(false));
+        assert_eq!(report.networks[1].network, "10k|10k");
+        assert_eq!(report.networks[1].power_ok, Some(true));
+        assert!(!report.power_failed());
+        assert!(report.notes.iter().any(
+            |n| n == "#1 runs a part past 50 % of its rating; #2 is the closest that does not"
+        ));
+    }
+
+    #[test]
+    fn baseline_is_the_nearest_preferred_value() {
+        // IEC 60063: between 14k and 15k, E24 has 15k only; E96 has 14k0, 14k3, 14k7. For 14k6 the nearest
+        // are 15k (+2.74 %) and 14k7 (+0.685 %).
+        let report = FixReport::build(&drawer(), &request(14_600.0, None));
+        assert_eq!(report.baseline[0].series, "E24");
+        assert_eq!(report.baseline[0].ohms, Ohms(15e3));
+        assert!((report.baseline[0].error - (15.0 / 14.6 - 1.0)).abs() < 1e-12);
+        assert!(!report.baseline[0].in_stock, "the 15k bin is empty");
+        assert_eq!(report.baseline[1].ohms, Ohms(14_700.0));
+        // 10k is on hand.
+        let report = FixReport::build(&drawer(), &request(10_100.0, None));
+        assert!(report.baseline[0].in_stock);
+    }
+
+    #[test]
+    fn json_has_the_contract_keys() {
+        let report = FixReport::build(&drawer(), &request(14_700.0, None));
+        let v = serde_json::to_value(&report).unwrap();
+        assert_eq!(v["target"], 14_700.0);
+        let n = &v["networks"][0];
+        for key in ["ohms", "network", "error", "band", "parts"] {
+            assert!(!n[key].is_null(), "{key}");
+        }
+        assert_eq!(n["network"], "10k+4k7");
+        assert_eq!(n["band"].as_array().unwrap().len(), 2);
+        for key in ["ohms", "tolerance", "power", "location"] {
+            assert!(n["parts"][0].get(key).is_some(), "{key}");
+        }
+        assert_eq!(n["parts"][1]["location"], "C8");
+        assert!(n.get("power_ok").is_none(), "no load, no power check");
+    }
+
+    #[test]
+    fn errors_and_bands_read_well() {
+        assert_eq!(error_text(0.0), "exact");
+        assert_eq!(error_text(1e-12), "exact");
+        assert_eq!(error_text(12.3e-6), "+12.3 ppm");
+        assert_eq!(error_text(-0.000_999), "-999 ppm");
+        assert_eq!(error_text(0.006_85), "+0.685 %");
+        assert_eq!(error_text(-0.17), "-17 %");
+        assert_eq!(band_text((-0.05, 0.05)), "±5 %");
+        assert_eq!(band_text((-0.0304, 0.0296)), "-3.04/+2.96 %");
+    }
+}
