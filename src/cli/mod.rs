@@ -8,6 +8,7 @@ mod design;
 mod drawings;
 mod fix;
 mod ideal;
+mod order;
 mod output;
 mod spread;
 mod stock;
@@ -40,6 +41,8 @@ enum Command {
     Spread(spread::SpreadArgs),
     /// Fill every slot of every stage from stock so the operating points land closest to their targets
     Design(design::DesignArgs),
+    /// The cheapest purchase that makes a design buildable from stock (or the best design a budget buys)
+    Order(order::OrderArgs),
     /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
     Verify(verify::VerifyArgs),
 }
@@ -91,6 +94,7 @@ pub fn main() -> ExitCode {
         Command::Check(args) => check::run(args, &mut out),
         Command::Spread(args) => spread::run(args, &mut out),
         Command::Design(args) => design::run(args, &mut out),
+        Command::Order(args) => order::run(args, &mut out),
         Command::Verify(args) => verify::run(args, &mut out),
     };
     match result {

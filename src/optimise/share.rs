@@ -531,9 +531,10 @@ pub fn allocate_buying(
         }
     }
     match goal {
-        Goal::MaxError(bound) => {
-            solve_buying(variants, stages, copies, stock, offers, bound, None, time_limit)?.ok_or(ShareError::Scarce { copies })
-        }
+        Goal::MaxError(bound) => solve_buying(
+            variants, stages, copies, stock, offers, bound, None, time_limit,
+        )?
+        .ok_or(ShareError::Scarce { copies }),
         Goal::Budget(budget) => {
             let mut thresholds: Vec<f64> = variants.iter().map(cost).collect();
             thresholds.sort_by(f64::total_cmp);
@@ -541,8 +542,17 @@ pub fn allocate_buying(
             let started = Instant::now();
             let remaining = || time_limit.map(|l| l.saturating_sub(started.elapsed()));
             let top = *thresholds.last().expect("at least one variant");
-            let mut best = solve_buying(variants, stages, copies, stock, offers, top, Some(budget), remaining())?
-                .ok_or(ShareError::Scarce { copies })?;
+            let mut best = solve_buying(
+                variants,
+                stages,
+                copies,
+                stock,
+                offers,
+                top,
+                Some(budget),
+                remaining(),
+            )?
+            .ok_or(ShareError::Scarce { copies })?;
             let (mut lo, mut hi) = (0usize, thresholds.len() - 1);
             while lo < hi {
                 if time_limit.is_some_and(|l| started.elapsed() >= l) {
@@ -550,7 +560,16 @@ pub fn allocate_buying(
                     break;
                 }
                 let mid = (lo + hi) / 2;
-                match solve_buying(variants, stages, copies, stock, offers, thresholds[mid], Some(budget), remaining())? {
+                match solve_buying(
+                    variants,
+                    stages,
+                    copies,
+                    stock,
+                    offers,
+                    thresholds[mid],
+                    Some(budget),
+                    remaining(),
+                )? {
                     Some(b) => {
                         hi = mid;
                         best = b;
@@ -605,7 +624,11 @@ fn solve_buying(
         })
         .collect();
     let money: Expression = offers.iter().zip(&y).map(|(o, &yi)| o.price * yi).sum();
-    let errors: Expression = allowed.iter().zip(&x).map(|(&i, &xi)| cost(&variants[i]) * xi).sum();
+    let errors: Expression = allowed
+        .iter()
+        .zip(&x)
+        .map(|(&i, &xi)| cost(&variants[i]) * xi)
+        .sum();
     let objective = match budget {
         None => money.clone() + ERROR_WEIGHT * errors,
         // Money breaks ties: far below any difference in error.
@@ -616,8 +639,12 @@ fn solve_buying(
         model = model.with_time_limit(limit.as_secs_f64().max(0.01));
     }
     for s in 0..stages {
-        let boards: Expression =
-            allowed.iter().zip(&x).filter(|(&i, _)| variants[i].stage == s).map(|(_, &xi)| xi).sum();
+        let boards: Expression = allowed
+            .iter()
+            .zip(&x)
+            .filter(|(&i, _)| variants[i].stage == s)
+            .map(|(_, &xi)| xi)
+            .sum();
         model = model.with(constraint!(boards == copies as f64));
     }
     let mut per_part: BTreeMap<PartId, Expression> = BTreeMap::new();
@@ -639,7 +666,9 @@ fn solve_buying(
     let solution = match model.solve() {
         Ok(s) => s,
         Err(ResolutionError::Infeasible) => return Ok(None),
-        Err(ResolutionError::Other(msg)) if msg.contains("Time limit") => return Err(ShareError::TimedOut),
+        Err(ResolutionError::Other(msg)) if msg.contains("Time limit") => {
+            return Err(ShareError::TimedOut)
+        }
         Err(e) => return Err(ShareError::Solver(e.to_string())),
     };
     let proven = matches!(solution.status(), SolutionStatus::Optimal);
@@ -668,16 +697,28 @@ fn solve_buying(
         }
         have[p] += offers[o].pack as u64 * n as u64;
     }
-    let have32: Vec<u32> = have.iter().map(|&h| h.min(u32::MAX as u64) as u32).collect();
+    let have32: Vec<u32> = have
+        .iter()
+        .map(|&h| h.min(u32::MAX as u64) as u32)
+        .collect();
     let complete = (0..stages).all(|s| {
-        chosen.iter().filter(|&&(i, _)| variants[i].stage == s).map(|&(_, n)| n).sum::<u32>() == copies
+        chosen
+            .iter()
+            .filter(|&&(i, _)| variants[i].stage == s)
+            .map(|&(_, n)| n)
+            .sum::<u32>()
+            == copies
     });
     if !complete || !fits(variants, &chosen, &have32) {
-        return Err(ShareError::Solver("the solver returned a purchase that does not check out".into()));
+        return Err(ShareError::Solver(
+            "the solver returned a purchase that does not check out".into(),
+        ));
     }
     let total: f64 = packs.iter().map(|&(o, n)| offers[o].price * n as f64).sum();
     if budget.is_some_and(|b| total > b + 1e-9) {
-        return Err(ShareError::Solver("the solver returned a purchase over the budget".into()));
+        return Err(ShareError::Solver(
+            "the solver returned a purchase over the budget".into(),
+        ));
     }
     Ok(Some(Bought {
         allocation: summarise(variants, chosen, proven),
@@ -695,33 +736,89 @@ mod buying_tests {
         // Part 0 is on hand (1 piece); parts 1 and 2 must be bought. Variant A (error 1 %) needs part 1,
         // variant B (0.2 %) part 2, variant C (3 %) the stocked part.
         let variants = vec![
-            Variant { stage: 0, error: 0.01, parts: 1, uses: vec![(1, 1)] },
-            Variant { stage: 0, error: 0.002, parts: 1, uses: vec![(2, 1)] },
-            Variant { stage: 0, error: 0.03, parts: 1, uses: vec![(0, 1)] },
+            Variant {
+                stage: 0,
+                error: 0.01,
+                parts: 1,
+                uses: vec![(1, 1)],
+            },
+            Variant {
+                stage: 0,
+                error: 0.002,
+                parts: 1,
+                uses: vec![(2, 1)],
+            },
+            Variant {
+                stage: 0,
+                error: 0.03,
+                parts: 1,
+                uses: vec![(0, 1)],
+            },
         ];
         let offers = vec![
-            PackOffer { part: 1, pack: 1, price: 0.10 },
-            PackOffer { part: 2, pack: 10, price: 0.50 },
-            PackOffer { part: 2, pack: 1, price: 0.08 },
+            PackOffer {
+                part: 1,
+                pack: 1,
+                price: 0.10,
+            },
+            PackOffer {
+                part: 2,
+                pack: 10,
+                price: 0.50,
+            },
+            PackOffer {
+                part: 2,
+                pack: 1,
+                price: 0.08,
+            },
         ];
         let stock = [1, 0, 0];
         // Within 5 %, the stocked part costs nothing.
-        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.05), None).unwrap();
+        let b =
+            allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.05), None).unwrap();
         assert_eq!(b.cost, 0.0);
         assert_eq!(b.allocation.chosen, vec![(2, 1)]);
         // Within 1.5 %: part 2 single pack (0.08) is cheaper than part 1 (0.10), and more accurate.
-        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.015), None).unwrap();
+        let b = allocate_buying(
+            &variants,
+            1,
+            1,
+            &stock,
+            &offers,
+            Goal::MaxError(0.015),
+            None,
+        )
+        .unwrap();
         assert!((b.cost - 0.08).abs() < 1e-12);
         // Twelve boards within 0.5 %: 12 of part 2 as one 10-pack and two singles (0.66), not 12 singles (0.96).
-        let b = allocate_buying(&variants, 1, 12, &stock, &offers, Goal::MaxError(0.005), None).unwrap();
+        let b = allocate_buying(
+            &variants,
+            1,
+            12,
+            &stock,
+            &offers,
+            Goal::MaxError(0.005),
+            None,
+        )
+        .unwrap();
         assert!((b.cost - 0.66).abs() < 1e-9, "{}", b.cost);
         // A budget of 0.09 buys the best error it can: variant B.
-        let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::Budget(0.09), None).unwrap();
+        let b =
+            allocate_buying(&variants, 1, 1, &stock, &offers, Goal::Budget(0.09), None).unwrap();
         assert_eq!(b.allocation.chosen, vec![(1, 1)]);
         // No budget at all: the stocked part.
         let b = allocate_buying(&variants, 1, 1, &stock, &offers, Goal::Budget(0.0), None).unwrap();
         assert_eq!(b.allocation.chosen, vec![(2, 1)]);
         // A bound nothing meets.
-        assert!(allocate_buying(&variants, 1, 1, &stock, &offers, Goal::MaxError(0.001), None).is_err());
+        assert!(allocate_buying(
+            &variants,
+            1,
+            1,
+            &stock,
+            &offers,
+            Goal::MaxError(0.001),
+            None
+        )
+        .is_err());
     }
 }

@@ -108,7 +108,12 @@ pub fn order(
     let mut variants: Vec<Variant> = Vec::new();
     let mut networks_of: Vec<SlotNetworks> = Vec::new();
     for (si, stage) in design.stages.iter().enumerate() {
-        progress(&format!("stage {} of {}: {}", si + 1, design.stages.len(), stage.name));
+        progress(&format!(
+            "stage {} of {}: {}",
+            si + 1,
+            design.stages.len(),
+            stage.name
+        ));
         let ideal = stage.ideal()?;
         let slots = stage.slots();
         let window_list = |index: &Index, x: crate::units::Ohms| {
@@ -135,7 +140,9 @@ pub fn order(
             mixed_lists.push(mixed);
         }
         let mut seen: BTreeSet<Vec<Vec<(PartId, u32)>>> = BTreeSet::new();
-        let mut add = |nets: SlotNetworks, variants: &mut Vec<Variant>, networks_of: &mut Vec<SlotNetworks>| {
+        let mut add = |nets: SlotNetworks,
+                       variants: &mut Vec<Variant>,
+                       networks_of: &mut Vec<SlotNetworks>| {
             let key: Vec<Vec<(PartId, u32)>> = slots
                 .iter()
                 .map(|&s| {
@@ -174,7 +181,10 @@ pub fn order(
             let (found, _) = stage_variants(stage, lists, request.variants, &on_hand, deadline);
             for f in found {
                 let nets = SlotNetworks::from_pairs(
-                    slots.iter().enumerate().map(|(p, &s)| (s, lists[p][f.picks[p]].network.clone())),
+                    slots
+                        .iter()
+                        .enumerate()
+                        .map(|(p, &s)| (s, lists[p][f.picks[p]].network.clone())),
                 );
                 add(nets, &mut variants, &mut networks_of);
             }
@@ -189,7 +199,10 @@ pub fn order(
                     .iter()
                     .enumerate()
                     .min_by(|(_, a), (_, b)| {
-                        (a.ohms.0 / x.0).ln().abs().total_cmp(&(b.ohms.0 / x.0).ln().abs())
+                        (a.ohms.0 / x.0)
+                            .ln()
+                            .abs()
+                            .total_cmp(&(b.ohms.0 / x.0).ln().abs())
                     })
                     .expect("a catalogue with items");
                 let member = Member {
@@ -207,8 +220,17 @@ pub fn order(
         }
     }
     progress("choosing the purchase");
-    let remaining = request.time_limit.map(|l| l.saturating_sub(started.elapsed()));
-    let bought = allocate_buying(&variants, design.stages.len(), request.copies, &on_hand, &offers, request.goal, remaining)
+    let remaining = request
+        .time_limit
+        .map(|l| l.saturating_sub(started.elapsed()));
+    // In the program, catalogue parts start from none on hand: every piece of them is bought.
+    let free: Vec<u32> = combined
+        .parts
+        .iter()
+        .enumerate()
+        .map(|(i, p)| if i < stocked { p.qty } else { 0 })
+        .collect();
+    let bought = allocate_buying(&variants, design.stages.len(), request.copies, &free, &offers, request.goal, remaining)
         .map_err(|e| match e {
             ShareError::NoVariant(s) => OrderError::Infeasible(format!(
                 "stage \"{}\": no network set from stock and catalogue meets the hard constraints",
@@ -243,7 +265,9 @@ pub fn order(
     if let Goal::MaxError(bound) = request.goal {
         // Verified on the final networks with the DC solver, not taken from the program.
         if built.iter().any(|b| b.error > bound * (1.0 + 1e-9)) {
-            return Err(OrderError::Infeasible("the chosen design does not meet the bound when re-checked".into()));
+            return Err(OrderError::Infeasible(
+                "the chosen design does not meet the bound when re-checked".into(),
+            ));
         }
     }
     let mut per_item: BTreeMap<usize, (u32, u32, f64)> = BTreeMap::new();
