@@ -94,6 +94,8 @@ fn main() {
     let e24 = kit(Series::E24, 10.0, 1e6, 10);
     let e12 = kit(Series::E12, 10.0, 1e6, 10);
     let e6 = kit(Series::E6, 10.0, 1e6, 10);
+    let e3 = kit(Series::E3, 10.0, 1e6, 10);
+    let e6_narrow = kit(Series::E6, 100.0, 100e3, 10);
 
     println!("design benchmark (each figure measured in this run)\n");
     println!(
@@ -114,10 +116,20 @@ fn main() {
 
     println!("\ngrowth with stock size and --parts, and speed-up over exhaustive enumeration of the same candidates");
     println!(
-        "{:<10} {:>6} {:>12} {:>12} {:>14} {:>10} {:>9}",
+        "{:<12} {:>6} {:>12} {:>12} {:>14} {:>12} {:>11}",
         "stock", "parts", "design s", "error", "combinations", "exhaust s", "speed-up"
     );
-    for (name, stock) in [("E6 kit", &e6), ("E12 kit", &e12), ("E24 kit", &e24)] {
+    // Seconds per combination of the exhaustive enumeration, from the largest one that ran in full; the
+    // larger ones are estimated from it (marked ~).
+    let mut per_combination: Option<f64> = None;
+    let mut rows = Vec::new();
+    for (name, stock) in [
+        ("E3 kit", &e3),
+        ("E6 1k–100k", &e6_narrow),
+        ("E6 kit", &e6),
+        ("E12 kit", &e12),
+        ("E24 kit", &e24),
+    ] {
         for parts in 1..=3 {
             let (secs, err) = run(&one, stock, parts);
             let combos: u64 = {
@@ -131,26 +143,35 @@ fn main() {
                     })
                     .product()
             };
-            // Exhaustive search only where it finishes in reasonable time (about 2e7 combinations).
-            if combos <= 20_000_000 {
-                let (ex, best, _) = exhaustive(&one, stock, parts, 3.0);
+            // Exhaustive search only where it finishes in reasonable time.
+            let measured = if combos <= 30_000_000 {
+                let (ex, best, n) = exhaustive(&one, stock, parts, 3.0);
                 assert!(
                     (best - err).abs() < 1e-9 || err <= best,
                     "search {err} vs exhaustive {best}"
                 );
-                println!(
-                    "{name:<10} {parts:>6} {secs:>12.4} {:>11.3}% {combos:>14} {ex:>10.3} {:>8.0}×",
-                    err * 100.0,
-                    ex / secs
-                );
+                if n >= 1_000_000 {
+                    per_combination = Some(ex / n as f64);
+                }
+                Some(ex)
             } else {
-                println!(
-                    "{name:<10} {parts:>6} {secs:>12.4} {:>11.3}% {combos:>14} {:>10} {:>9}",
-                    err * 100.0,
-                    "-",
-                    "-"
-                );
-            }
+                None
+            };
+            rows.push((name, parts, secs, err, combos, measured));
         }
+    }
+    for (name, parts, secs, err, combos, measured) in rows {
+        let (ex, ratio) = match (measured, per_combination) {
+            (Some(ex), _) => (format!("{ex:.3}"), format!("{:.0}×", ex / secs)),
+            (None, Some(per)) => {
+                let ex = combos as f64 * per;
+                (format!("~{ex:.1e}"), format!("~{:.0e}×", ex / secs))
+            }
+            (None, None) => ("-".to_string(), "-".to_string()),
+        };
+        println!(
+            "{name:<12} {parts:>6} {secs:>12.4} {:>11.3}% {combos:>14} {ex:>12} {ratio:>11}",
+            err * 100.0
+        );
     }
 }
