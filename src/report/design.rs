@@ -235,6 +235,21 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
                 percent(s.stage.error)
             );
         }
+        if let Some(w) = s.worst_error {
+            let _ = writeln!(
+                out,
+                "  chosen for the best worst case over tolerance, beta and temperature: {}",
+                percent(w)
+            );
+        }
+        // Common bench practice (no source): measured within 10 % of calculated is acceptable, 5 % the aim.
+        if s.stage.error > 0.05 {
+            let _ = writeln!(
+                out,
+                "  note: the closest the stock allows is {} from target; `biasfit order` finds what to buy",
+                percent(s.stage.error)
+            );
+        }
     }
     if !r.alternatives.is_empty() {
         let _ = writeln!(out, "\nnext-best designs");
