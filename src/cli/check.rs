@@ -85,7 +85,9 @@ pub fn networks(
             )));
         }
         if seen.contains(&slot) {
-            return Err(Failure::Input(format!("--use: {slot} is given twice")));
+            return Err(Failure::Input(format!(
+                "--use: {slot} is given twice; give each slot once"
+            )));
         }
         seen.push(slot);
         let net = parse_network(value, tol, watts)

@@ -72,7 +72,12 @@ pub fn one_line(rendered: &str, command: &str) -> String {
             in_usage = true;
             continue;
         }
-        if in_usage || line.starts_with("For more information") {
+        // Clap suggests `-- ARG` for any unknown argument, which only helps a value that starts with a single
+        // '-' (a negative number); for a misspelt --flag it misleads.
+        if in_usage
+            || line.starts_with("For more information")
+            || line.starts_with("tip: to pass '--")
+        {
             continue;
         }
         match pieces.last_mut() {
@@ -171,6 +176,11 @@ mod tests {
         assert_eq!(
             one_line(tip, "biasfit design"),
             "error: unexpected argument '--part' found; tip: a similar argument exists: '--parts'; see biasfit design --help"
+        );
+        let unknown = "error: unexpected argument '--frobnicate' found\n\n  tip: to pass '--frobnicate' as a value, use '-- --frobnicate'\n\nUsage: biasfit stock [OPTIONS] <FILE>\n";
+        assert_eq!(
+            one_line(unknown, "biasfit stock"),
+            "error: unexpected argument '--frobnicate' found; see biasfit stock --help"
         );
         let top = "error: unrecognized subcommand 'bogus'\n\nUsage: biasfit <COMMAND>\n\nFor more information, try '--help'.\n";
         assert_eq!(

@@ -66,9 +66,19 @@ fn parse_si(
             .all(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
         && s.chars().any(|c| c.is_ascii_digit());
     if !valid {
-        return Err(refuse(
-            "it is not a number with an optional prefix and unit",
-        ));
+        // "0.25 V" for a power: a number followed by the wrong letter is told which letter, and what fits.
+        let numeric_start =
+            s.starts_with(|c: char| c.is_ascii_digit() || matches!(c, '.' | '-' | '+'));
+        // The last such letter: in "2mV" for a current the m is a fine prefix and the V the wrong unit.
+        let stray = s.chars().rev().find(|c| {
+            !(c.is_ascii_digit() || c.is_whitespace() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
+        });
+        return Err(match stray {
+            Some(c) if numeric_start => refuse(&format!(
+                "'{c}' is not an SI prefix (p, n, u, m, k, M, G) or the unit {unit}"
+            )),
+            _ => refuse("it is not a number with an optional prefix and unit"),
+        });
     }
     // One decimal string, rounded once by the standard library: a written exponent and the prefix's add up.
     let (mantissa, exponent) = match s.split_once(['e', 'E']) {
@@ -372,6 +382,12 @@ mod tests {
         for bad in ["1e", "1e+", "e3", "1e3.5", "1e99999999999"] {
             assert!(parse_volts(bad).is_err(), "{bad}");
         }
+        let e = parse_watts("0.25 V").unwrap_err();
+        assert!(e.reason.contains("'V' is not an SI prefix"), "{e}");
+        let e = parse_amps("2mV").unwrap_err();
+        assert!(e.reason.contains("'V' is not an SI prefix"), "{e}");
+        let e = parse_volts("twelve").unwrap_err();
+        assert!(e.reason.contains("not a number"), "{e}");
         let e = parse_tolerance("-5%").unwrap_err();
         assert!(e.reason.contains("no sign"), "{e}");
     }

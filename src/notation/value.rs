@@ -118,7 +118,12 @@ pub fn parse_ohms(input: &str) -> Result<Ohms, ValueError> {
         {
             return Err(refuse(
                 input,
-                format!("'{c}' is not a digit or a multiplier letter (R, k, M, G, T)"),
+                if *c == ',' {
+                    "a decimal comma is not read: write a point (4.7k) or the letter code (4k7)"
+                        .to_string()
+                } else {
+                    format!("'{c}' is not a digit or a multiplier letter (R, k, M, G, T)")
+                },
             ));
         }
         match letters.as_slice() {
@@ -332,6 +337,7 @@ mod tests {
     fn the_reason_names_the_offending_character() {
         for (s, reason) in [
             ("4k7;10", "';' is not a digit or a multiplier letter"),
+            ("4,7k", "decimal comma"),
             ("NaN", "'N' is not a digit or a multiplier letter"),
             ("inf", "'i' is not a digit or a multiplier letter"),
             ("4k7k", "more than one multiplier letter"),

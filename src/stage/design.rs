@@ -56,7 +56,7 @@ pub enum DesignError {
         line: usize,
     },
     /// The text is not valid TOML.
-    #[error("{file}:{line}: not valid TOML: {message}")]
+    #[error("{file}:{line}: not valid TOML: {message}; expected key = value lines under [[stage]] and [stage.transistor], [stage.rule] or [stage.limits], with text in quotes")]
     Syntax {
         /// The file.
         file: String,
@@ -173,11 +173,17 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
     };
     let Item::ArrayOfTables(list) = stages_item else {
         let line = stages_item.span().map_or(1, |s| cx.line(s.start));
+        // The text as written when it is short (an inline array), else the table header it must have been.
+        let written = stages_item
+            .span()
+            .and_then(|s| cx.text.get(s))
+            .map(str::trim)
+            .filter(|t| t.chars().count() <= 40 && !t.contains('\n'));
         return Err(DesignError::Field {
             file: file.into(),
             line,
             field: "stage".into(),
-            text: "[stage]".into(),
+            text: written.unwrap_or("[stage]").to_string(),
             expected: "write each stage as [[stage]], with double brackets".into(),
         });
     };
@@ -627,7 +633,10 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
     };
     let supply_v = t.require(cx, "supply", "the supply voltage, such as 12 or \"9V\"")?;
     let supply = volts(cx, &supply_v)?;
-    if !(supply.0.is_finite() && supply.0 != 0.0) {
+    if !supply.0.is_finite() {
+        return Err(supply_v.refuse(cx, "expected the supply in volts, such as 12"));
+    }
+    if supply.0 == 0.0 {
         return Err(supply_v.refuse(cx, "the supply cannot be zero"));
     }
     if supply.0.abs() > MOST_VOLTS {
@@ -657,7 +666,10 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
         }
         None => None,
         Some(v) if topology != Topology::DualSupply => {
-            return Err(v.refuse(cx, "supply_neg applies only to topology = \"dual-supply\""))
+            return Err(v.refuse(
+                cx,
+                "supply_neg applies only to topology = \"dual-supply\"; remove it, or use that topology",
+            ))
         }
         Some(v) => {
             let x = volts(cx, &v)?;
@@ -1043,7 +1055,10 @@ fn read_rule(cx: &Cx, t: &mut Tab, topology: Topology) -> Result<Rule, DesignErr
         None => None,
         Some(v) => {
             if topology != Topology::DividerSplit {
-                return Err(v.refuse(cx, "rule.gain applies only to topology = \"divider-split\""));
+                return Err(v.refuse(
+                    cx,
+                    "rule.gain applies only to topology = \"divider-split\"; remove it, or use that topology",
+                ));
             }
             let g = v
                 .number()

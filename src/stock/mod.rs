@@ -227,7 +227,10 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         part.qty = part.qty.checked_add(qty).ok_or_else(|| {
             field(
                 "qty",
-                format!("\"{qty_text}\" brings this part's total past {}", u32::MAX),
+                format!(
+                    "\"{qty_text}\" brings this part's total past {}; expected at most that many pieces of one part in all",
+                    u32::MAX
+                ),
             )
         })?;
         part.lines.push(line);
