@@ -122,19 +122,30 @@ fn keeps(
     Ok(out)
 }
 
+/// Reads `--time-limit`: a number of seconds above 0.
+pub fn time_limit(seconds: Option<f64>) -> Result<Option<Duration>, Failure> {
+    match seconds {
+        None => Ok(None),
+        Some(s) if s.is_finite() && s > 0.0 => Ok(Some(Duration::from_secs_f64(s))),
+        Some(s) => Err(Failure::Input(format!(
+            "--time-limit {s}: expected a number of seconds above 0"
+        ))),
+    }
+}
+
+/// The build-sheet view of the chosen builds.
+pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec<SheetStage> {
+    built
+        .iter()
+        .map(|b| SheetStage::new(&design.stages[b.stage], &b.networks, b.copies))
+        .collect()
+}
+
 /// Runs `biasfit design`.
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     let (design_file, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
-    let time_limit = match args.time_limit {
-        None => None,
-        Some(s) if s.is_finite() && s > 0.0 => Some(Duration::from_secs_f64(s)),
-        Some(s) => {
-            return Err(Failure::Input(format!(
-                "--time-limit {s}: expected a number of seconds above 0"
-            )))
-        }
-    };
+    let time_limit = time_limit(args.time_limit)?;
     let request = Request {
         max_parts: args.parts as usize,
         copies: args.copies,
@@ -162,11 +173,7 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     };
     let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);
     if args.drawings.wanted() {
-        let sheet: Vec<SheetStage> = outcome
-            .built
-            .iter()
-            .map(|b| SheetStage::new(&design_file.stages[b.stage], &b.networks, b.copies))
-            .collect();
+        let sheet = sheet(&design_file, &outcome.built);
         let title = format!("{} from {}", design_file.file, stock.file);
         for f in args
             .drawings

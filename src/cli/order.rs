@@ -19,7 +19,7 @@ use clap::Args;
 use serde::Serialize;
 use std::fmt::Write;
 use std::path::PathBuf;
-use std::time::{Duration, Instant};
+use std::time::Instant;
 
 /// Arguments of `biasfit order`.
 #[derive(Debug, Args)]
@@ -139,15 +139,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         (None, Some(e)) => Goal::MaxError(parse_bound(e)?),
         (None, None) => Goal::MaxError(0.005),
     };
-    let time_limit = match args.time_limit {
-        None => None,
-        Some(s) if s.is_finite() && s > 0.0 => Some(Duration::from_secs_f64(s)),
-        Some(s) => {
-            return Err(Failure::Input(format!(
-                "--time-limit {s}: expected a number of seconds above 0"
-            )))
-        }
-    };
+    let time_limit = super::design::time_limit(args.time_limit)?;
     let request = OrderRequest {
         max_parts: args.parts as usize,
         copies: args.copies,
@@ -195,17 +187,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         eprintln!("wrote {}", path.display());
     }
     if args.drawings.wanted() {
-        let sheet: Vec<biasfit::report::html::SheetStage> = outcome
-            .built
-            .iter()
-            .map(|b| {
-                biasfit::report::html::SheetStage::new(
-                    &design.stages[b.stage],
-                    &b.networks,
-                    b.copies,
-                )
-            })
-            .collect();
+        let sheet = super::design::sheet(&design, &outcome.built);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
         for f in args
             .drawings
