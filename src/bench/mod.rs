@@ -120,6 +120,15 @@ impl Measured {
                 text: value.trim().to_string(),
                 reason: e.to_string(),
             })?;
+            // No node of a stage sits beyond the largest rail a design file takes (1 kV): a reading past it
+            // is a slip of the keyboard, not a fault to diagnose.
+            if v.0.abs() > 1e3 {
+                return Err(BenchError::Value {
+                    node: node.to_ascii_uppercase(),
+                    text: value.trim().to_string(),
+                    reason: "a reading beyond ±1 kV cannot come from a bias network; expected the meter's reading in volts from ground, such as 2.05".into(),
+                });
+            }
             *slot = Some(v);
         }
         if m.vb.is_none() && m.ve.is_none() && m.vc.is_none() {

@@ -32,6 +32,26 @@ pub struct CheckArgs {
     pub json: bool,
 }
 
+/// The slot of one `SLOT=NETWORK` item of `flag`, refusing a slot name that is not one and a network that
+/// holds another '=' (pairs run together with a space or a semicolon instead of a comma).
+pub fn slot_name(flag: &str, item: &str, name: &str, value: &str) -> Result<Slot, Failure> {
+    if name.trim().is_empty() {
+        return Err(Failure::Input(format!(
+            "{flag}: \"{item}\" has no slot name before '='; expected pairs such as R1=15k,RE=(220+47)|1k"
+        )));
+    }
+    let slot: Slot = name
+        .trim()
+        .parse()
+        .map_err(|e| Failure::Input(format!("{flag}: {e}")))?;
+    if value.contains('=') {
+        return Err(Failure::Input(format!(
+            "{flag}: \"{item}\" holds more than one '='; separate SLOT=NETWORK pairs with commas, as in R1=15k,R2=3k3"
+        )));
+    }
+    Ok(slot)
+}
+
 /// Reads `--use` values into networks for a stage: every slot it has, nothing it lacks, none twice.
 pub fn networks(
     s: &Stage,
@@ -57,9 +77,7 @@ pub fn networks(
                 "--use: \"{item}\" is not SLOT=NETWORK; expected pairs such as R1=15k,RE=(220+47)|1k"
             ))
         })?;
-        let slot: Slot = name
-            .parse()
-            .map_err(|e| Failure::Input(format!("--use: {e}")))?;
+        let slot = slot_name("--use", item, name, value)?;
         if !s.has_slot(slot) {
             return Err(Failure::Input(format!(
                 "--use: stage \"{}\" ({}) has no {slot}; its slots are {expected}",
@@ -67,7 +85,9 @@ pub fn networks(
             )));
         }
         if seen.contains(&slot) {
-            return Err(Failure::Input(format!("--use: {slot} is given twice")));
+            return Err(Failure::Input(format!(
+                "--use: {slot} is given twice; give each slot once"
+            )));
         }
         seen.push(slot);
         let net = parse_network(value, tol, watts)

@@ -1,7 +1,9 @@
 //! `biasfit design FILE --stock STOCK`: fill every slot of every stage from stock so that the operating
 //! points land closest to their targets, and print the build sheet, the baseline and the pick list.
 
+use super::check::slot_name;
 use super::drawings::DrawingArgs;
+use super::flags::{seconds, whole};
 use super::ideal::stages;
 use super::output::Progress;
 use super::stock::{load as load_stock, DefaultArgs};
@@ -15,6 +17,10 @@ use clap::Args;
 use std::path::PathBuf;
 use std::time::Duration;
 
+/// The most alternatives `--alternatives` may ask for: more than anyone reads, and a bound on the search,
+/// which keeps that many variants of every stage (a typo of 10⁹ would otherwise fill the memory).
+const MAX_ALTERNATIVES: usize = 100;
+
 /// Arguments of `biasfit design`.
 #[derive(Debug, Args)]
 pub struct DesignArgs {
@@ -24,29 +30,43 @@ pub struct DesignArgs {
     #[arg(long, value_name = "STOCK")]
     pub stock: PathBuf,
     /// At most this many resistors per slot: 1 (singles), 2 (pairs) or 3 (triples)
-    #[arg(long, value_name = "N", default_value_t = 2, value_parser = clap::value_parser!(u8).range(1..=3))]
+    #[arg(long, value_name = "N", default_value_t = 2, allow_negative_numbers = true,
+          value_parser = whole::<u8>(1, 3, "the most resistors per slot"))]
     pub parts: u8,
     /// Build this many boards from the stock (they may use different variants)
-    #[arg(long, value_name = "N", default_value_t = 1, value_parser = clap::value_parser!(u32).range(1..=10000))]
+    #[arg(long, value_name = "N", default_value_t = 1, allow_negative_numbers = true,
+          value_parser = whole::<u32>(1, 10_000, "a number of boards"))]
     pub copies: u32,
     /// Slots already fitted, kept as they are: R2=3k3,RC=2k2 (prefix a stage number for multi-stage files: 2:RC=2k2)
     #[arg(long, value_name = "SLOTS")]
     pub keep: Vec<String>,
     /// Tolerance assumed for kept parts
-    #[arg(long, value_name = "TOL", default_value = "5%")]
+    #[arg(
+        long,
+        value_name = "TOL",
+        default_value = "5%",
+        allow_hyphen_values = true
+    )]
     pub keep_tolerance: String,
     /// Power rating assumed for kept parts
-    #[arg(long, value_name = "WATTS", default_value = "0.25W")]
+    #[arg(
+        long,
+        value_name = "WATTS",
+        default_value = "0.25W",
+        allow_hyphen_values = true
+    )]
     pub keep_watts: String,
     /// Also list the next K best designs of each stage
-    #[arg(long, value_name = "K", default_value_t = 0)]
+    #[arg(long, value_name = "K", default_value_t = 0, allow_negative_numbers = true,
+          value_parser = whole::<usize>(0, MAX_ALTERNATIVES as u64, "a number of alternatives"))]
     pub alternatives: usize,
     /// Variants per stage handed to the integer program
-    #[arg(long, value_name = "K", default_value_t = 200, value_parser = clap::value_parser!(u32).range(1..=100000))]
+    #[arg(long, value_name = "K", default_value_t = 200, allow_negative_numbers = true,
+          value_parser = whole::<u32>(1, 100_000, "a number of variants per stage"))]
     pub variants: u32,
     /// Stop after this many seconds and report the best verified design found
-    #[arg(long, value_name = "S")]
-    pub time_limit: Option<f64>,
+    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
+    pub time_limit: Option<Duration>,
     #[command(flatten)]
     pub defaults: DefaultArgs,
     #[command(flatten)]
@@ -97,9 +117,16 @@ fn keeps(
                         .expect("a stage of the design")
                 });
                 let idx = idx.ok_or_else(|| {
+                    let names: Vec<String> =
+                        design.stages.iter().map(|s| format!("\"{}\"", s.name)).collect();
+                    let numbers = match design.stages.len() {
+                        1 => "1".to_string(),
+                        n => format!("1 to {n}"),
+                    };
                     Failure::Input(format!(
-                        "--keep {item}: no stage \"{st}\"; give a stage number from 1 to {} or its name",
-                        design.stages.len()
+                        "--keep {item}: {} has no stage \"{st}\"; give its number ({numbers}) or its name ({})",
+                        design.file,
+                        names.join(", ")
                     ))
                 })?;
                 (idx, sl.trim())
@@ -112,25 +139,18 @@ fn keeps(
                 )))
             }
         };
-        let slot: Slot = slot
-            .parse()
-            .map_err(|e| Failure::Input(format!("--keep: {e}")))?;
+        let slot = slot_name("--keep", item, slot, value)?;
+        if out.iter().any(|&(st, sl, _)| st == stage && sl == slot) {
+            return Err(Failure::Input(format!(
+                "--keep: {slot} of stage \"{}\" is given twice; keep each slot once",
+                design.stages[stage].name
+            )));
+        }
         let net = parse_network(value, tol, watts)
             .map_err(|e| Failure::Input(format!("--keep {slot}: {e}")))?;
         out.push((stage, slot, net));
     }
     Ok(out)
-}
-
-/// Reads `--time-limit`: a number of seconds above 0.
-pub fn time_limit(seconds: Option<f64>) -> Result<Option<Duration>, Failure> {
-    match seconds {
-        None => Ok(None),
-        Some(s) if s.is_finite() && s > 0.0 => Ok(Some(Duration::from_secs_f64(s))),
-        Some(s) => Err(Failure::Input(format!(
-            "--time-limit {s}: expected a number of seconds above 0"
-        ))),
-    }
 }
 
 /// The build-sheet view of the chosen builds.
@@ -145,14 +165,13 @@ pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     let (design_file, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
-    let time_limit = time_limit(args.time_limit)?;
     let request = Request {
         max_parts: args.parts as usize,
         copies: args.copies,
         keep: keeps(&design_file, &args)?,
         variants: args.variants as usize,
         alternatives: args.alternatives,
-        time_limit,
+        time_limit: args.time_limit,
         robust: args.robust,
         robust_temp: args
             .temp

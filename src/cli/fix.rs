@@ -1,10 +1,11 @@
 //! `biasfit fix VALUE --stock FILE`: the best one-, two- or three-resistor networks the stock can build for
 //! one off-value slot, with the nearest single E24 and E96 values beside them and an optional power check.
 
+use super::flags::whole;
 use super::stock::{load, DefaultArgs};
 use super::{Failure, Out};
 use biasfit::network::fix::{FixReport, Load, Request};
-use biasfit::notation::{parse_amps, parse_ohms, parse_power, parse_volts};
+use biasfit::notation::{engineering, parse_amps, parse_ohms, parse_power, parse_volts};
 use biasfit::units::{Amps, Volts};
 use clap::Args;
 use std::path::PathBuf;
@@ -21,10 +22,12 @@ pub struct FixArgs {
     #[arg(long, value_name = "FILE")]
     pub stock: PathBuf,
     /// The most resistors per network: 1, 2 (series and parallel pairs) or 3 (also triples)
-    #[arg(long, value_name = "N", default_value_t = 2, value_parser = clap::value_parser!(u8).range(1..=3))]
+    #[arg(long, value_name = "N", default_value_t = 2, allow_negative_numbers = true,
+          value_parser = whole::<u8>(1, 3, "the most resistors per network"))]
     pub parts: u8,
     /// How many networks to list, best first
-    #[arg(long, value_name = "K", default_value_t = 5)]
+    #[arg(long, value_name = "K", default_value_t = 5, allow_negative_numbers = true,
+          value_parser = whole::<usize>(1, MAX_TOP as u64, "a number of networks"))]
     pub top: usize,
     /// Check power: this much is dissipated in the whole network (0.3W, 250mW)
     #[arg(long, value_name = "P", conflicts_with_all = ["volts", "amps"], allow_negative_numbers = true)]
@@ -41,7 +44,12 @@ pub struct FixArgs {
     #[arg(long, value_name = "I", allow_negative_numbers = true)]
     pub amps: Option<String>,
     /// The share of its rating each part may dissipate in the power check (0.5 or 50%)
-    #[arg(long, value_name = "FRACTION", default_value = "50%")]
+    #[arg(
+        long,
+        value_name = "FRACTION",
+        default_value = "50%",
+        allow_hyphen_values = true
+    )]
     pub derate: String,
     #[command(flatten)]
     pub defaults: DefaultArgs,
@@ -69,31 +77,29 @@ impl FixArgs {
     /// The validated request.
     fn request(&self) -> Result<Request, Failure> {
         let target = parse_ohms(&self.value).map_err(|e| Failure::Input(format!("VALUE: {e}")))?;
-        if self.top == 0 || self.top > MAX_TOP {
-            return Err(Failure::Input(format!(
-                "--top: \"{}\" is out of range; expected a number of networks from 1 to {MAX_TOP}",
-                self.top
-            )));
-        }
-        let positive = |flag: &str, x: f64, what: &str| {
-            if x > 0.0 {
+        // The upper bounds are far past any bias network and keep a typo from printing 1e300 W.
+        let positive = |flag: &str, x: f64, what: &str, most: f64, unit: &str| {
+            if x > 0.0 && x <= most {
                 Ok(())
             } else {
                 Err(Failure::Input(format!(
-                    "{flag}: a {what} of {x} cannot be checked; expected a value above zero"
+                    "{flag}: a {what} of {} cannot be checked; expected a value above zero and at most {}",
+                    engineering(x, unit),
+                    engineering(most, unit)
                 )))
             }
         };
         let load = if let Some(w) = &self.watts {
             let p = parse_power(w).map_err(|e| Failure::Input(format!("--watts: {e}")))?;
+            positive("--watts", p.0, "power", 1e4, "W")?;
             Some(Load::Watts(p))
         } else if let Some(v) = &self.volts {
             let Volts(x) = parse_volts(v).map_err(|e| Failure::Input(format!("--volts: {e}")))?;
-            positive("--volts", x, "voltage")?;
+            positive("--volts", x, "voltage", 1e4, "V")?;
             Some(Load::Volts(Volts(x)))
         } else if let Some(a) = &self.amps {
             let Amps(x) = parse_amps(a).map_err(|e| Failure::Input(format!("--amps: {e}")))?;
-            positive("--amps", x, "current")?;
+            positive("--amps", x, "current", 1e3, "A")?;
             Some(Load::Amps(Amps(x)))
         } else {
             None

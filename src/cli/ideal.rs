@@ -29,10 +29,20 @@ pub struct IdealArgs {
 #[derive(Debug, Args, Clone)]
 pub struct PartArgs {
     /// Tolerance of each resistor
-    #[arg(long, value_name = "TOL", default_value = "5%")]
+    #[arg(
+        long,
+        value_name = "TOL",
+        default_value = "5%",
+        allow_hyphen_values = true
+    )]
     pub tolerance: String,
     /// Power rating of each resistor
-    #[arg(long, value_name = "WATTS", default_value = "0.25W")]
+    #[arg(
+        long,
+        value_name = "WATTS",
+        default_value = "0.25W",
+        allow_hyphen_values = true
+    )]
     pub watts: String,
 }
 

@@ -7,6 +7,7 @@ mod check;
 mod design;
 mod drawings;
 mod fix;
+mod flags;
 mod ideal;
 mod order;
 mod output;
@@ -81,9 +82,17 @@ pub fn main() -> ExitCode {
     let cli = match Cli::try_parse() {
         Ok(cli) => cli,
         Err(e) => {
-            let code = if e.use_stderr() { 2 } else { 0 };
-            let _ = e.print();
-            return ExitCode::from(code);
+            use clap::error::ErrorKind;
+            // Help and version go to stdout as clap prints them; so does the help shown for a bare
+            // `biasfit`. Every other refusal is bad input: one line, exit 2.
+            if !e.use_stderr() || e.kind() == ErrorKind::DisplayHelpOnMissingArgumentOrSubcommand {
+                let _ = e.print();
+                return ExitCode::from(if e.use_stderr() { 2 } else { 0 });
+            }
+            let args: Vec<String> = std::env::args().skip(1).collect();
+            let command = flags::command_path(&<Cli as clap::CommandFactory>::command(), &args);
+            eprintln!("{}", flags::one_line(&e.render().to_string(), &command));
+            return ExitCode::from(2);
         }
     };
     let mut out = Out::stdout();
@@ -106,7 +115,9 @@ pub fn main() -> ExitCode {
         Err(f) => {
             match &f {
                 Failure::Input(m) | Failure::Infeasible(m) | Failure::Io(m) => {
-                    eprintln!("error: {m}")
+                    // One line, whatever a library or system message holds.
+                    let m: Vec<&str> = m.lines().map(str::trim).filter(|l| !l.is_empty()).collect();
+                    eprintln!("error: {}", m.join(" "))
                 }
                 Failure::ChecksFailed => {}
             }

@@ -2,6 +2,7 @@
 //! bound), or the best design a budget buys; prints the order list, the pick list and the resulting design.
 
 use super::drawings::DrawingArgs;
+use super::flags::{amount, seconds, whole};
 use super::ideal::stages;
 use super::output::{warn_all, write_atomic, Progress};
 use super::stock::{load as load_stock, DefaultArgs};
@@ -19,7 +20,7 @@ use clap::Args;
 use serde::Serialize;
 use std::fmt::Write;
 use std::path::PathBuf;
-use std::time::Instant;
+use std::time::{Duration, Instant};
 
 /// Arguments of `biasfit order`.
 #[derive(Debug, Args)]
@@ -42,23 +43,31 @@ pub struct OrderArgs {
     #[arg(long, value_name = "WATTS", default_value = "0.25W")]
     pub power: String,
     /// Build this many boards
-    #[arg(long, value_name = "N", default_value_t = 1, value_parser = clap::value_parser!(u32).range(1..=10000))]
+    #[arg(long, value_name = "N", default_value_t = 1, allow_negative_numbers = true,
+          value_parser = whole::<u32>(1, 10_000, "a number of boards"))]
     pub copies: u32,
     /// The cheapest purchase keeping every board's error within this bound [default: 0.5%]
-    #[arg(long, value_name = "ERR", conflicts_with = "budget")]
+    #[arg(
+        long,
+        value_name = "ERR",
+        conflicts_with = "budget",
+        allow_hyphen_values = true
+    )]
     pub error: Option<String>,
     /// Instead: the smallest error that this much money buys
-    #[arg(long, value_name = "MONEY")]
+    #[arg(long, value_name = "MONEY", allow_negative_numbers = true, value_parser = amount)]
     pub budget: Option<f64>,
     /// At most this many resistors per slot
-    #[arg(long, value_name = "N", default_value_t = 2, value_parser = clap::value_parser!(u8).range(1..=3))]
+    #[arg(long, value_name = "N", default_value_t = 2, allow_negative_numbers = true,
+          value_parser = whole::<u8>(1, 3, "the most resistors per slot"))]
     pub parts: u8,
     /// Variants per stage from each search
-    #[arg(long, value_name = "K", default_value_t = 200, value_parser = clap::value_parser!(u32).range(1..=100000))]
+    #[arg(long, value_name = "K", default_value_t = 200, allow_negative_numbers = true,
+          value_parser = whole::<u32>(1, 100_000, "a number of variants per stage"))]
     pub variants: u32,
     /// Stop after this many seconds with the best purchase found
-    #[arg(long, value_name = "S")]
-    pub time_limit: Option<f64>,
+    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
+    pub time_limit: Option<Duration>,
     /// Write the order list to this CSV file (what `stock add --order` reads)
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
@@ -139,7 +148,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         (None, Some(e)) => Goal::MaxError(parse_bound(e)?),
         (None, None) => Goal::MaxError(0.005),
     };
-    let time_limit = super::design::time_limit(args.time_limit)?;
+    let time_limit = args.time_limit;
     let request = OrderRequest {
         max_parts: args.parts as usize,
         copies: args.copies,

@@ -3,6 +3,7 @@
 
 use super::check::networks;
 use super::drawings::DrawingArgs;
+use super::flags::whole;
 use super::ideal::{stages, PartArgs};
 use super::output::write_atomic;
 use super::{Failure, Out};
@@ -42,10 +43,12 @@ pub struct SpreadArgs {
     #[command(flatten)]
     pub parts: PartArgs,
     /// Monte Carlo builds per stage
-    #[arg(long, value_name = "N", default_value_t = 20_000)]
+    #[arg(long, value_name = "N", default_value_t = 20_000, allow_negative_numbers = true,
+          value_parser = whole::<usize>(1, MAX_RUNS as u64, "a number of builds"))]
     pub runs: usize,
     /// Seed of the Monte Carlo draws (the same seed gives the same builds)
-    #[arg(long, value_name = "S", default_value_t = 1)]
+    #[arg(long, value_name = "S", default_value_t = 1, allow_negative_numbers = true,
+          value_parser = whole::<u64>(0, u64::MAX, "a seed"))]
     pub seed: u64,
     /// Temperature range of the worst case, in °C [default: the design's limits.temperature, else -20..70]
     #[arg(long, value_name = "LO..HI", allow_hyphen_values = true)]
@@ -98,12 +101,6 @@ pub fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
 
 /// Runs `biasfit spread`.
 pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
-    if args.runs == 0 || args.runs > MAX_RUNS {
-        return Err(Failure::Input(format!(
-            "--runs {}: expected a number of builds from 1 to {MAX_RUNS}",
-            args.runs
-        )));
-    }
     let range = args.temp.as_deref().map(parse_range).transpose()?;
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
     let chosen: Vec<&Stage> = picked.iter().map(|&i| &design.stages[i]).collect();

@@ -1,6 +1,7 @@
 //! `biasfit stock FILE`: validate a stock file and summarise it; `biasfit stock take` and `biasfit stock add`:
 //! keep it true to the drawer after a build or a delivery.
 
+use super::flags::whole;
 use super::output::warn_all;
 use super::{input, Failure, Out};
 use biasfit::notation::{parse_tolerance, parse_watts};
@@ -46,7 +47,8 @@ pub struct TakeArgs {
     #[arg(long, value_name = "FILE")]
     pub result: PathBuf,
     /// Boards built: scales a one-board result; must match a result made for several
-    #[arg(long, value_name = "N", value_parser = clap::value_parser!(u32).range(1..))]
+    #[arg(long, value_name = "N", allow_negative_numbers = true,
+          value_parser = whole::<u32>(1, 1_000_000, "a number of boards"))]
     pub copies: Option<u32>,
     #[command(flatten)]
     pub edit: EditArgs,
@@ -81,10 +83,20 @@ pub struct EditArgs {
 #[derive(Debug, Args, Clone)]
 pub struct DefaultArgs {
     /// Tolerance for stock rows without one
-    #[arg(long, value_name = "TOL", default_value = "5%")]
+    #[arg(
+        long,
+        value_name = "TOL",
+        default_value = "5%",
+        allow_hyphen_values = true
+    )]
     pub default_tolerance: String,
     /// Power rating for stock rows without one
-    #[arg(long, value_name = "WATTS", default_value = "0.25W")]
+    #[arg(
+        long,
+        value_name = "WATTS",
+        default_value = "0.25W",
+        allow_hyphen_values = true
+    )]
     pub default_power: String,
 }
 

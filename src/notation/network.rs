@@ -123,7 +123,11 @@ impl Parser<'_> {
                     ))),
                     Err(e) => {
                         self.at = start;
-                        self.fail(format!("\"{}\" {}", text.trim(), e.reason))
+                        self.fail(format!(
+                            "\"{}\" is not a resistance: {}",
+                            text.trim(),
+                            e.reason
+                        ))
                     }
                 }
             }

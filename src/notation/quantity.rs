@@ -66,15 +66,33 @@ fn parse_si(
             .all(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
         && s.chars().any(|c| c.is_ascii_digit());
     if !valid {
-        return Err(refuse(
-            "it is not a number with an optional prefix and unit",
-        ));
+        // "0.25 V" for a power: a number followed by the wrong letter is told which letter, and what fits.
+        let numeric_start =
+            s.starts_with(|c: char| c.is_ascii_digit() || matches!(c, '.' | '-' | '+'));
+        // The last such letter: in "2mV" for a current the m is a fine prefix and the V the wrong unit.
+        let stray = s.chars().rev().find(|c| {
+            !(c.is_ascii_digit() || c.is_whitespace() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
+        });
+        return Err(match stray {
+            Some(c) if numeric_start => refuse(&format!(
+                "'{c}' is not an SI prefix (p, n, u, m, k, M, G) or the unit {unit}"
+            )),
+            _ => refuse("it is not a number with an optional prefix and unit"),
+        });
     }
-    let value: f64 = format!("{s}e{power}")
+    // One decimal string, rounded once by the standard library: a written exponent and the prefix's add up.
+    let (mantissa, exponent) = match s.split_once(['e', 'E']) {
+        Some((m, e)) => (
+            m,
+            e.parse::<i32>().map_err(|_| refuse("it is not a number"))?,
+        ),
+        None => (s, 0),
+    };
+    let value: f64 = format!("{mantissa}e{}", exponent.saturating_add(power))
         .parse()
         .map_err(|_| refuse("it is not a number"))?;
     if !value.is_finite() {
-        return Err(refuse("it is not finite"));
+        return Err(refuse("it is too large to be a quantity"));
     }
     Ok(value)
 }
@@ -176,6 +194,11 @@ pub fn parse_tolerance(input: &str) -> Result<Tolerance, QuantityError> {
     if t.is_empty() {
         return Err(refuse("it is empty"));
     }
+    if t.starts_with(['-', '−']) {
+        return Err(refuse(
+            "a tolerance is a ± band and takes no sign (5% means ±5 %)",
+        ));
+    }
     let mut chars = t.chars();
     if let (Some(c), None) = (chars.next(), chars.next()) {
         if c.is_ascii_alphabetic() {
@@ -219,6 +242,9 @@ pub fn trim_number(x: f64, sig: u32) -> String {
         return format!("{x}");
     }
     let magnitude = x.abs().log10().floor() as i32;
+    if !(-12..15).contains(&magnitude) {
+        return scientific(x, sig);
+    }
     let decimals = (sig as i32 - 1 - magnitude).max(0) as usize;
     let s = format!("{:.*}", decimals, super::value::round_sig(x, sig));
     if s.contains('.') {
@@ -228,7 +254,20 @@ pub fn trim_number(x: f64, sig: u32) -> String {
     }
 }
 
-/// Formats a quantity in engineering notation with 3 significant digits: "2.45 mA", "12 V", "350 mW".
+/// Scientific notation with up to `sig` significant digits ("1.5e300"), for magnitudes no prefix covers:
+/// written out in full they would run to hundreds of digits.
+fn scientific(x: f64, sig: u32) -> String {
+    let s = format!("{:.*e}", (sig.max(1) - 1) as usize, x);
+    match s.split_once('e') {
+        Some((m, e)) if m.contains('.') => {
+            format!("{}e{e}", m.trim_end_matches('0').trim_end_matches('.'))
+        }
+        _ => s,
+    }
+}
+
+/// Formats a quantity in engineering notation with 3 significant digits: "2.45 mA", "12 V", "350 mW";
+/// beyond the prefixes p to T, in scientific notation ("1e-300 A").
 pub fn engineering(x: f64, unit: &str) -> String {
     if x == 0.0 {
         return format!("0 {unit}");
@@ -249,6 +288,9 @@ pub fn engineering(x: f64, unit: &str) -> String {
     ];
     let rounded = super::value::round_sig(x, 3);
     let magnitude = rounded.abs().log10().floor() as i32;
+    if !(-12..15).contains(&magnitude) {
+        return format!("{} {unit}", scientific(rounded, 3));
+    }
     let power = (magnitude.div_euclid(3) * 3).clamp(-12, 12);
     let prefix = PREFIXES
         .iter()
@@ -329,6 +371,28 @@ mod tests {
     }
 
     #[test]
+    fn exponents_and_prefixes_add_up() {
+        assert_eq!(parse_volts("1e3").unwrap().0, 1000.0);
+        assert_eq!(parse_amps("2e-3").unwrap().0, 0.002);
+        assert_eq!(parse_amps("2e3mA").unwrap().0, 2.0);
+        assert_eq!(parse_volts("1.5E+1 V").unwrap().0, 15.0);
+        assert_eq!(parse_volts("1e300").unwrap().0, 1e300);
+        let e = parse_volts("1e400").unwrap_err();
+        assert!(e.reason.contains("too large"), "{e}");
+        for bad in ["1e", "1e+", "e3", "1e3.5", "1e99999999999"] {
+            assert!(parse_volts(bad).is_err(), "{bad}");
+        }
+        let e = parse_watts("0.25 V").unwrap_err();
+        assert!(e.reason.contains("'V' is not an SI prefix"), "{e}");
+        let e = parse_amps("2mV").unwrap_err();
+        assert!(e.reason.contains("'V' is not an SI prefix"), "{e}");
+        let e = parse_volts("twelve").unwrap_err();
+        assert!(e.reason.contains("not a number"), "{e}");
+        let e = parse_tolerance("-5%").unwrap_err();
+        assert!(e.reason.contains("no sign"), "{e}");
+    }
+
+    #[test]
     fn voltages_and_currents() {
         assert_eq!(parse_volts("12").unwrap().0, 12.0);
         assert_eq!(parse_volts("-12 V").unwrap().0, -12.0);
@@ -351,6 +415,12 @@ mod tests {
         assert_eq!(engineering(0.000_999_9, "A"), "1 mA");
         assert_eq!(engineering(4700.0, "Ω"), "4.7 kΩ");
         assert_eq!(trim_number(5.0, 3), "5");
+        // Past the prefixes, scientific notation rather than hundreds of digits.
+        assert_eq!(engineering(1e-300, "A"), "1e-300 A");
+        assert_eq!(engineering(8.65e299, "Ω"), "8.65e299 Ω");
+        assert_eq!(engineering(999e12, "Ω"), "999 TΩ");
+        assert_eq!(trim_number(1e300, 6), "1e300");
+        assert_eq!(trim_number(-1.5e-20, 6), "-1.5e-20");
         assert_eq!(trim_number(0.25, 3), "0.25");
     }
 }

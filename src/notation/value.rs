@@ -110,6 +110,22 @@ pub fn parse_ohms(input: &str) -> Result<Ohms, ValueError> {
             .char_indices()
             .filter(|(_, c)| !c.is_ascii_digit() && !matches!(c, '.' | 'e' | 'E' | '+' | '-' | ' '))
             .collect();
+        // A character that is neither part of a number nor a multiplier (a stray ';', the N of NaN) is named
+        // as such, rather than counted as a second multiplier.
+        if let Some((_, c)) = letters
+            .iter()
+            .find(|(_, c)| multiplier(*c, had_unit).is_none())
+        {
+            return Err(refuse(
+                input,
+                if *c == ',' {
+                    "a decimal comma is not read: write a point (4.7k) or the letter code (4k7)"
+                        .to_string()
+                } else {
+                    format!("'{c}' is not a digit or a multiplier letter (R, k, M, G, T)")
+                },
+            ));
+        }
         match letters.as_slice() {
             [] => {
                 if !is_plain_number(body) {
@@ -133,6 +149,12 @@ pub fn parse_ohms(input: &str) -> Result<Ohms, ValueError> {
                 if right.is_empty() {
                     if !is_plain_number(left) {
                         return Err(refuse(input, "the multiplier must follow a number"));
+                    }
+                    if left.contains(['e', 'E']) {
+                        return Err(refuse(
+                            input,
+                            "write an exponent or a multiplier letter, not both (4.7e3 or 4k7)",
+                        ));
                     }
                     format!("{left}e{power}")
                 } else {
@@ -308,6 +330,21 @@ mod tests {
                 err.to_string().contains("expected a value such as"),
                 "{err}"
             );
+        }
+    }
+
+    #[test]
+    fn the_reason_names_the_offending_character() {
+        for (s, reason) in [
+            ("4k7;10", "';' is not a digit or a multiplier letter"),
+            ("4,7k", "decimal comma"),
+            ("NaN", "'N' is not a digit or a multiplier letter"),
+            ("inf", "'i' is not a digit or a multiplier letter"),
+            ("4k7k", "more than one multiplier letter"),
+            ("1e3k", "an exponent or a multiplier letter, not both"),
+        ] {
+            let err = parse_ohms(s).unwrap_err();
+            assert!(err.reason.contains(reason), "{s}: {err}");
         }
     }
 

@@ -183,7 +183,7 @@ pub fn read_result(
             return r.fail(
                 "stages",
                 format!(
-                    "no stage named \"{}\" (from the design file); the result has {}",
+                    "no stage named \"{}\" (from the design file); the result has {}; expected what biasfit design --json wrote for this design file",
                     st.name,
                     if found.is_empty() {
                         "none with a name".to_string()

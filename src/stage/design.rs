@@ -6,7 +6,8 @@
 //! numbers in SI units (`supply = 12`) or strings with units (`load = "4k7"`, `ic = "2mA"`).
 
 use super::{Beta, Limits, Polarity, Rule, Stage, Topology, Transistor, Vbe};
-use crate::notation::{parse_amps, parse_ohms, parse_volts, parse_watts};
+use crate::notation::value::MAX_OHMS;
+use crate::notation::{engineering, parse_amps, parse_ohms, parse_volts, parse_watts, trim_number};
 use crate::units::{Amps, Celsius, Ohms, Volts, Watts};
 use std::ops::Range;
 use std::path::Path;
@@ -46,8 +47,16 @@ pub enum DesignError {
         /// The system's reason.
         source: std::io::Error,
     },
+    /// The file is not UTF-8 text.
+    #[error("{file}:{line}: the file is not UTF-8 text; save it as UTF-8")]
+    NotUtf8 {
+        /// The file.
+        file: String,
+        /// 1-based line of the first byte that is not UTF-8.
+        line: usize,
+    },
     /// The text is not valid TOML.
-    #[error("{file}:{line}: not valid TOML: {message}")]
+    #[error("{file}:{line}: not valid TOML: {message}; expected key = value lines under [[stage]] and [stage.transistor], [stage.rule] or [stage.limits], with text in quotes")]
     Syntax {
         /// The file.
         file: String,
@@ -100,6 +109,19 @@ pub enum DesignError {
         /// What is wrong and what is expected.
         expected: String,
     },
+    /// A table's values are each valid but impossible together (shares that do not add up, a rule no
+    /// resistor values can meet).
+    #[error("{file}:{line}: {table}: {message}")]
+    Table {
+        /// The file.
+        file: String,
+        /// 1-based line of the table.
+        line: usize,
+        /// The table ("[stage.rule]", `[[stage]] "line driver"`).
+        table: String,
+        /// What is impossible, and what to change.
+        message: String,
+    },
     /// The file holds no stages.
     #[error("{file}: no [[stage]] tables; expected at least one, starting with a line [[stage]]")]
     NoStages {
@@ -111,11 +133,19 @@ pub enum DesignError {
 /// Reads a design file from disk.
 pub fn load(path: &Path) -> Result<Design, DesignError> {
     let file = path.display().to_string();
-    let text = std::fs::read_to_string(path).map_err(|source| DesignError::Io {
+    let bytes = std::fs::read(path).map_err(|source| DesignError::Io {
         file: file.clone(),
         source,
     })?;
-    parse(&file, &text)
+    let text = std::str::from_utf8(&bytes).map_err(|e| DesignError::NotUtf8 {
+        line: bytes[..e.valid_up_to()]
+            .iter()
+            .filter(|&&b| b == b'\n')
+            .count()
+            + 1,
+        file: file.clone(),
+    })?;
+    parse(&file, text)
 }
 
 /// Reads a design file's text; `file` names it in messages.
@@ -143,11 +173,17 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
     };
     let Item::ArrayOfTables(list) = stages_item else {
         let line = stages_item.span().map_or(1, |s| cx.line(s.start));
+        // The text as written when it is short (an inline array), else the table header it must have been.
+        let written = stages_item
+            .span()
+            .and_then(|s| cx.text.get(s))
+            .map(str::trim)
+            .filter(|t| t.chars().count() <= 40 && !t.contains('\n'));
         return Err(DesignError::Field {
             file: file.into(),
             line,
             field: "stage".into(),
-            text: "[stage]".into(),
+            text: written.unwrap_or("[stage]").to_string(),
             expected: "write each stage as [[stage]], with double brackets".into(),
         });
     };
@@ -156,6 +192,19 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
         let line = t.span().map_or(1, |s| cx.line(s.start));
         let tab = Tab::of_table(&cx, "[[stage]]", "stage", line, t, STAGE_KEYS)?;
         let stage = read_stage(&cx, tab, n + 1)?;
+        // Each value can be valid and the whole still impossible (a gain the operating point cannot give,
+        // a base above the supply): refused here, at the stage's line, rather than later with no place.
+        if let Err(e) = stage.ideal() {
+            return Err(DesignError::Table {
+                file: file.into(),
+                line,
+                table: format!("[[stage]] \"{}\"", stage.name),
+                message: format!(
+                    "no resistor values can meet this stage's rule: {}",
+                    e.reason
+                ),
+            });
+        }
         if let Some(prev) = stages.iter().find(|s: &&Stage| s.name == stage.name) {
             return Err(DesignError::Field {
                 file: file.into(),
@@ -514,16 +563,29 @@ fn ohms(cx: &Cx, v: &Val) -> Result<Ohms, DesignError> {
     quantity(cx, v, |s| parse_ohms(s).map_err(|e| e.to_string()), Ohms)
 }
 
+/// The most each quantity may be: far past any bias network, so that only a slip (a lost decimal point, a
+/// wrong prefix) is refused, before it turns into pages of 10³⁰⁰-scale figures.
+const MOST_VOLTS: f64 = 1e3;
+const MOST_AMPS: f64 = 100.0;
+const MOST_WATTS: f64 = 1e4;
+const MOST_BETA: f64 = 1e5;
+
 fn positive<T: Copy>(
     cx: &Cx,
     v: &Val,
     x: T,
     get: impl Fn(T) -> f64,
     what: &str,
+    (most, unit): (f64, &str),
 ) -> Result<T, DesignError> {
     let f = get(x);
-    if f.is_finite() && f > 0.0 {
+    if f.is_finite() && f > 0.0 && f <= most {
         Ok(x)
+    } else if f.is_finite() && f > most {
+        Err(v.refuse(
+            cx,
+            format!("{what} must be at most {}", engineering(most, unit)),
+        ))
     } else {
         Err(v.refuse(cx, format!("{what} must be greater than zero")))
     }
@@ -571,8 +633,20 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
     };
     let supply_v = t.require(cx, "supply", "the supply voltage, such as 12 or \"9V\"")?;
     let supply = volts(cx, &supply_v)?;
-    if !(supply.0.is_finite() && supply.0 != 0.0) {
+    if !supply.0.is_finite() {
+        return Err(supply_v.refuse(cx, "expected the supply in volts, such as 12"));
+    }
+    if supply.0 == 0.0 {
         return Err(supply_v.refuse(cx, "the supply cannot be zero"));
+    }
+    if supply.0.abs() > MOST_VOLTS {
+        return Err(supply_v.refuse(
+            cx,
+            format!(
+                "expected a supply of at most {} (a bias network's rail, in volts)",
+                engineering(MOST_VOLTS, "V")
+            ),
+        ));
     }
     if polarity == Polarity::Npn && supply.0 < 0.0 {
         return Err(supply_v.refuse(
@@ -592,19 +666,38 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
         }
         None => None,
         Some(v) if topology != Topology::DualSupply => {
-            return Err(v.refuse(cx, "supply_neg applies only to topology = \"dual-supply\""))
+            return Err(v.refuse(
+                cx,
+                "supply_neg applies only to topology = \"dual-supply\"; remove it, or use that topology",
+            ))
         }
         Some(v) => {
             let x = volts(cx, &v)?;
             if !(x.0.is_finite() && x.0 != 0.0 && x.0.signum() != supply.0.signum()) {
                 return Err(v.refuse(cx, "the emitter-side rail must have the opposite sign to supply, such as supply = 12, supply_neg = -12"));
             }
+            if x.0.abs() > MOST_VOLTS {
+                return Err(v.refuse(
+                    cx,
+                    format!(
+                        "expected a rail of at most {}",
+                        engineering(MOST_VOLTS, "V")
+                    ),
+                ));
+            }
             Some(x.abs())
         }
     };
     let load = match t.get(cx, "load") {
         None => None,
-        Some(v) => Some(positive(cx, &v, ohms(cx, &v)?, |o| o.0, "the load")?),
+        Some(v) => Some(positive(
+            cx,
+            &v,
+            ohms(cx, &v)?,
+            |o| o.0,
+            "the load",
+            (MAX_OHMS, "Ω"),
+        )?),
     };
     let ic = match t.get(cx, "ic") {
         None => None,
@@ -614,6 +707,7 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
             amps(cx, &v)?,
             |a| a.0,
             "the collector current",
+            (MOST_AMPS, "A"),
         )?),
     };
     match (load, ic) {
@@ -647,6 +741,20 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
             })?;
     let transistor = read_transistor(cx, &mut tr)?;
     tr.finish(cx)?;
+    let vbe_level = match transistor.vbe {
+        Vbe::Fixed(v) | Vbe::Diode { volts: v, .. } => v,
+    };
+    // Only a dual supply's negative rail can forward-bias the junction on its own; every other topology
+    // drives the base from the collector-side rail, which must then exceed VBE.
+    if topology != Topology::DualSupply && supply.0.abs() <= vbe_level.0 {
+        return Err(supply_v.refuse(
+            cx,
+            format!(
+                "the supply must be above the transistor's VBE ({}) for the base to be driven from it",
+                engineering(vbe_level.0, "V")
+            ),
+        ));
+    }
     let rule = match t.table(cx, "rule", RULE_KEYS)? {
         Some(mut r) => {
             let rule = read_rule(cx, &mut r, topology)?;
@@ -731,8 +839,27 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
                     "expected one number or three, [min, typical, max], such as [100, 180, 300]",
                 )),
             };
-        if !(b.min >= 1.0 && b.min <= b.typ && b.typ <= b.max && b.max.is_finite()) {
-            return Err(bv.refuse(cx, "expected 1 ≤ min ≤ typical ≤ max"));
+        let n = |x: f64| trim_number(x, 6);
+        let wrong = if ![b.min, b.typ, b.max].iter().all(|x| x.is_finite()) {
+            Some("every beta must be a finite number".to_string())
+        } else if b.min < 1.0 {
+            Some(format!("min {} is below 1", n(b.min)))
+        } else if b.min > b.typ {
+            Some(format!("min {} is above typical {}", n(b.min), n(b.typ)))
+        } else if b.typ > b.max {
+            Some(format!("typical {} is above max {}", n(b.typ), n(b.max)))
+        } else if b.max > MOST_BETA {
+            Some(format!("max {} is above 100000", n(b.max)))
+        } else {
+            None
+        };
+        if let Some(wrong) = wrong {
+            return Err(bv.refuse(
+                cx,
+                format!(
+                    "{wrong}; expected 1 ≤ min ≤ typical ≤ max ≤ 100000, such as [100, 180, 300]"
+                ),
+            ));
         }
         b
     };
@@ -771,6 +898,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
                         amps(cx, &at_v)?,
                         |a| a.0,
                         "the reference current",
+                        (MOST_AMPS, "A"),
                     )?;
                     let n = d.number(cx, "n", 1.0, |n| {
                         if (0.5..=3.0).contains(&n) {
@@ -809,6 +937,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
             watts(cx, &v)?,
             |w| w.0,
             "the power limit",
+            (MOST_WATTS, "W"),
         )?),
     };
     let max_ic = match t.get(cx, "max_ic") {
@@ -819,6 +948,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
             amps(cx, &v)?,
             |a| a.0,
             "the current limit",
+            (MOST_AMPS * 10.0, "A"),
         )?),
     };
     let max_vce = match t.get(cx, "max_vce") {
@@ -829,6 +959,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
             volts(cx, &v)?.abs(),
             |x| x.0,
             "the voltage limit",
+            (MOST_VOLTS * 10.0, "V"),
         )?),
     };
     // About −2 mV/°C at constant current: the textbook figure for silicon (from memory; common practice).
@@ -901,7 +1032,7 @@ fn read_rule(cx: &Cx, t: &mut Tab, topology: Topology) -> Result<Rule, DesignErr
     let line = t.line;
     let vrc = t.number(cx, "vrc", d.vrc, fraction)?;
     let vce = t.number(cx, "vce", d.vce, fraction)?;
-    let vre_given = t.get(cx, "vre").is_some();
+    let vre_given = t.get(cx, "vre");
     let vre = t.number(cx, "vre", d.vre, fraction)?;
     let stiffness = t.number(cx, "stiffness", d.stiffness, |x| {
         if x >= 1.0 && x.is_finite() {
@@ -924,7 +1055,10 @@ fn read_rule(cx: &Cx, t: &mut Tab, topology: Topology) -> Result<Rule, DesignErr
         None => None,
         Some(v) => {
             if topology != Topology::DividerSplit {
-                return Err(v.refuse(cx, "rule.gain applies only to topology = \"divider-split\""));
+                return Err(v.refuse(
+                    cx,
+                    "rule.gain applies only to topology = \"divider-split\"; remove it, or use that topology",
+                ));
             }
             let g = v
                 .number()
@@ -945,31 +1079,41 @@ fn read_rule(cx: &Cx, t: &mut Tab, topology: Topology) -> Result<Rule, DesignErr
             Err("expected a fraction of IC, above 0, such as 0.25".into())
         }
     })?;
-    let refuse = |expected: String| DesignError::Field {
+    let n = |x: f64| trim_number(x, 6);
+    let refuse = |message: String| DesignError::Table {
         file: cx.file.into(),
         line,
-        field: "stage.rule".into(),
-        text: format!("vrc = {vrc}, vce = {vce}, vre = {vre}"),
-        expected,
+        table: "[stage.rule]".into(),
+        message,
     };
     if vrc <= 0.0 || vce <= 0.0 {
-        return Err(refuse("vrc and vce must both be above 0".into()));
+        return Err(refuse(format!(
+            "vrc and vce must both be above 0 (here vrc = {}, vce = {}), such as vrc = 0.45, vce = 0.45",
+            n(vrc),
+            n(vce)
+        )));
     }
     if topology == Topology::DualSupply {
-        if vre_given {
-            return Err(refuse("a dual-supply stage takes no vre: the negative rail sets the drop across RE, and vrc : vce splits the rest".into()));
+        if let Some(v) = vre_given {
+            return Err(v.refuse(cx, "a dual-supply stage takes no vre: the negative rail sets the drop across RE, and vrc : vce splits the rest"));
         }
     } else {
         let sum = vrc + vce + vre;
         if (sum - 1.0).abs() > 1e-6 {
             return Err(refuse(format!(
-                "the three shares add up to {sum}; they must add up to 1"
+                "vrc + vce + vre add up to {} ({} + {} + {}); the three shares of the supply must add up to 1, such as 0.45 + 0.45 + 0.1",
+                n(sum),
+                n(vrc),
+                n(vce),
+                n(vre)
             )));
         }
         if vre <= 0.0 && topology.has_divider() {
-            return Err(refuse(
-                "a divider stage needs an emitter resistor: give vre above 0".into(),
-            ));
+            let e = "a divider stage needs an emitter resistor: give vre above 0, such as 0.1";
+            return Err(match vre_given {
+                Some(v) => v.refuse(cx, e),
+                None => refuse(e.into()),
+            });
         }
     }
     if topology == Topology::DividerSplit && gain.is_none() {

@@ -24,6 +24,7 @@ pub use checks::{Check, CheckUnit, SlotNetworks};
 pub use design::{load, parse, Design, DesignError};
 pub use divider_split::AcFigures;
 
+use crate::notation::value::{MAX_OHMS, MIN_OHMS};
 use crate::units::{thermal_voltage, Amps, Celsius, Ohms, Volts, Watts};
 use junction::{Env, Junction, Law};
 use std::fmt;
@@ -731,6 +732,12 @@ impl Stage {
                 return Err(self.fail(format!(
                     "the rule gives {slot} = {:.4} Ω, which no resistor can be; check supply, load and rule",
                     r.0
+                )));
+            }
+            if !(MIN_OHMS..=MAX_OHMS).contains(&r.0) {
+                return Err(self.fail(format!(
+                    "the rule gives {slot} = {}, outside the 1 mΩ to 1 TΩ any resistor can be; check supply, load, ic and rule",
+                    crate::notation::engineering(r.0, "Ω")
                 )));
             }
         }

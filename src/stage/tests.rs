@@ -511,9 +511,11 @@ fn split_emitter_ac_figures_by_hand() {
     // A gain the operating point cannot give is refused with the reason.
     let greedy =
         toml_for(Topology::DividerSplit, Polarity::Npn, false).replace("gain = 6", "gain = 500");
-    let err = stage_of(&greedy).ideal().unwrap_err().to_string();
+    // It is refused when the file is read, at the stage's line, since no resistor values can meet it.
+    let err = parse("test.toml", &greedy).unwrap_err().to_string();
     assert!(
-        err.contains("more than this operating point can give"),
+        err.starts_with("test.toml:1: [[stage]] \"t\": no resistor values can meet")
+            && err.contains("more than this operating point can give"),
         "{err}"
     );
 }

@@ -160,6 +160,21 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         let get = |column: &str| table.get(record, column);
         let field =
             |column: &'static str, message: String| table.field_error(record, column, message);
+        // A row too short to reach a required column is a row whose delimiters went astray ("4k7;10" in a
+        // comma file), better said as such than as a blank field.
+        for column in ["value", "qty"] {
+            if table.field(record, column).is_none() {
+                let width = table.layout.width;
+                let n = record.fields.len();
+                return Err(table.row_error(
+                    record,
+                    format!(
+                        "the row has {n} field(s) but the header has {width}, so it gives no {column}; expected fields separated by '{}' as in the header",
+                        table.layout.delimiter as char
+                    ),
+                ));
+            }
+        }
         let value = get("value");
         if value.is_empty() {
             return Err(field(
@@ -169,6 +184,12 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         }
         let ohms = parse_ohms(value).map_err(|e| field("value", e.to_string()))?;
         let qty_text = get("qty");
+        if qty_text.is_empty() {
+            return Err(field(
+                "qty",
+                "the qty is missing; expected a whole number of pieces, 0 or more".into(),
+            ));
+        }
         let qty: u32 = parse_count(qty_text).ok_or_else(|| {
             field(
                 "qty",
@@ -206,7 +227,10 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         part.qty = part.qty.checked_add(qty).ok_or_else(|| {
             field(
                 "qty",
-                format!("\"{qty_text}\" brings this part's total past {}", u32::MAX),
+                format!(
+                    "\"{qty_text}\" brings this part's total past {}; expected at most that many pieces of one part in all",
+                    u32::MAX
+                ),
             )
         })?;
         part.lines.push(line);
@@ -355,7 +379,14 @@ mod tests {
                 "value,qty\n1k,2\n,3\n",
                 "test.csv:3: column value: the value is missing",
             ),
-            ("value,qty\n1k\n", "test.csv:2: column qty: \"\""),
+            (
+                "value,qty\n1k\n",
+                "test.csv:2: the row has 1 field(s) but the header has 2, so it gives no qty",
+            ),
+            (
+                "value,qty\n1k,\n",
+                "test.csv:2: column qty: the qty is missing",
+            ),
             (
                 "value,qty\n1k,2,3\n",
                 "test.csv:2: the row has 3 fields but the header has 2",

@@ -81,6 +81,12 @@ pub enum CsvError {
         /// 1-based byte offset in the line.
         byte: usize,
     },
+    /// The file is UTF-16 text (it starts with a UTF-16 byte-order mark), as some spreadsheets save it.
+    #[error("{file}:1: the file is UTF-16 text; save it as UTF-8 CSV")]
+    Utf16 {
+        /// The file.
+        file: String,
+    },
     /// No header row.
     #[error("{file}: the file has no header row; expected a first line such as {example}")]
     NoHeader {
@@ -377,6 +383,11 @@ impl Table {
         } else {
             0
         };
+        if bytes.starts_with(b"\xFF\xFE") || bytes.starts_with(b"\xFE\xFF") {
+            return Err(CsvError::Utf16 {
+                file: file.to_string(),
+            });
+        }
         let text = std::str::from_utf8(&bytes[bom..]).map_err(|e| {
             let (line, byte) = line_of(&bytes[bom..], e.valid_up_to());
             CsvError::NotUtf8 {
@@ -452,7 +463,15 @@ impl Table {
                         .map(|f| f.text.as_str())
                         .collect::<Vec<_>>()
                         .join(&(delimiter as char).to_string()),
-                    expected: schema.expected(),
+                    expected: if header.fields.len() == 1 {
+                        // "value|qty" or "value qty": the delimiter is one biasfit does not read.
+                        format!(
+                            "{}; the header reads as one column, so separate the columns with commas (or semicolons, or tabs)",
+                            schema.expected()
+                        )
+                    } else {
+                        schema.expected()
+                    },
                 });
             }
         }
