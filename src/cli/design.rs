@@ -185,9 +185,10 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     drop(progress);
     let outcome = match outcome {
         Ok(o) => o,
-        Err(e @ (DesignError::Infeasible { .. } | DesignError::Scarce(_))) => {
-            return Err(Failure::Infeasible(e.to_string()))
-        }
+        Err(
+            e
+            @ (DesignError::Infeasible { .. } | DesignError::Scarce(_) | DesignError::TimedOut(_)),
+        ) => return Err(Failure::Infeasible(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),
     };
     let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);

@@ -138,6 +138,11 @@ pub enum DesignError {
         /// What binds, and the closest design.
         reason: String,
     },
+    /// The time limit passed before the search found any design of a stage.
+    #[error(
+        "stage \"{0}\": the time limit passed before any design was found; allow more --time-limit"
+    )]
+    TimedOut(String),
     /// The stock cannot cover every board.
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
     Scarce(String),
@@ -427,6 +432,9 @@ pub fn design(
             best_variants(&model, &order, &candidates, k, &on_hand, deadline);
         evaluations += effort.evaluations;
         cut_short |= effort.cut_short;
+        if found.is_empty() && effort.cut_short {
+            return Err(DesignError::TimedOut(stage.name.clone()));
+        }
         if found.is_empty() {
             return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
         }
