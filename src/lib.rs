@@ -4,6 +4,20 @@
 //! thin shell over it. Data flows one way: validated input ([`stock`], [`notation`]) → candidate networks
 //! ([`network`]) → the selection → the exact operating point and checks → the spread → a report.
 
+//!
+//! ```
+//! use biasfit::notation::{code, parse_network, parse_ohms};
+//! use biasfit::{Tolerance, Watts};
+//!
+//! // The IEC 60062 letter code reads and prints the way the trade writes values.
+//! assert_eq!(parse_ohms("4k7").unwrap(), parse_ohms("4700").unwrap());
+//! assert_eq!(code(parse_ohms("0.47").unwrap()), "R47");
+//!
+//! // A network in the command-line notation: 10k in series with two 2k2 in parallel.
+//! let net = parse_network("10k+2k2|2k2", Tolerance(0.01), Watts(0.25)).unwrap();
+//! assert_eq!(code(net.ohms()), "11k1");
+//! ```
+
 #![deny(missing_docs)]
 #![forbid(unsafe_code)]
 

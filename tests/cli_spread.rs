@@ -114,25 +114,39 @@ fn reads_a_design_result_back() {
 }
 
 #[test]
-fn writes_the_histograms_as_svg() {
-    let path = temp("hist.svg");
-    let p = path.to_string_lossy().into_owned();
+fn writes_the_histograms_and_the_load_line_with_its_cloud() {
+    let dir = temp("drawings");
+    let d = dir.to_string_lossy().into_owned();
     let args: Vec<&str> = LINE_DRIVER
         .iter()
         .copied()
-        .chain(["--runs", "1000", "--svg", &p])
+        .chain(["--runs", "1000", "--svg", &d])
         .collect();
     let out = biasfit(&args);
     assert!(out.status.success(), "{}", stderr(&out));
-    let svg = std::fs::read_to_string(&path).unwrap();
-    let _ = std::fs::remove_file(&path);
+    let svg = std::fs::read_to_string(dir.join("histograms.svg")).unwrap();
     assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
     assert!(svg.contains("line driver: IC of 1000 builds"));
-    // An unwritable path is an output failure: exit 4, one line.
+    let load_line = std::fs::read_to_string(dir.join("line-driver-load-line.svg")).unwrap();
+    // The cloud: one mark per drawn build, far more marks than a plain load line has.
+    let plain = biasfit(&[
+        "check",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+        "--svg",
+        &format!("{d}/plain"),
+    ]);
+    assert!(plain.status.success(), "{}", stderr(&plain));
+    let without = std::fs::read_to_string(dir.join("plain/line-driver-load-line.svg")).unwrap();
+    assert!(load_line.matches("<circle").count() > without.matches("<circle").count() + 500);
+    assert!(dir.join("line-driver-schematic.svg").exists());
+    let _ = std::fs::remove_dir_all(&dir);
+    // An unwritable folder is an output failure: exit 4, one line.
     let args: Vec<&str> = LINE_DRIVER
         .iter()
         .copied()
-        .chain(["--runs", "10", "--svg", "/nonexistent-dir/x.svg"])
+        .chain(["--runs", "10", "--svg", "/proc/no-such-dir"])
         .collect();
     let out = biasfit(&args);
     assert_eq!(out.status.code(), Some(4), "{}", stderr(&out));

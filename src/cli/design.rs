@@ -153,6 +153,14 @@ fn keeps(
     Ok(out)
 }
 
+/// The build-sheet view of the chosen builds.
+pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec<SheetStage> {
+    built
+        .iter()
+        .map(|b| SheetStage::new(&design.stages[b.stage], &b.networks, b.copies))
+        .collect()
+}
+
 /// Runs `biasfit design`.
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     let (design_file, _) = stages(&args.file, None)?;
@@ -177,18 +185,15 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     drop(progress);
     let outcome = match outcome {
         Ok(o) => o,
-        Err(e @ (DesignError::Infeasible { .. } | DesignError::Scarce(_))) => {
-            return Err(Failure::Infeasible(e.to_string()))
-        }
+        Err(
+            e
+            @ (DesignError::Infeasible { .. } | DesignError::Scarce(_) | DesignError::TimedOut(_)),
+        ) => return Err(Failure::Infeasible(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),
     };
     let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);
     if args.drawings.wanted() {
-        let sheet: Vec<SheetStage> = outcome
-            .built
-            .iter()
-            .map(|b| SheetStage::new(&design_file.stages[b.stage], &b.networks, b.copies))
-            .collect();
+        let sheet = sheet(&design_file, &outcome.built);
         let title = format!("{} from {}", design_file.file, stock.file);
         for f in args
             .drawings

@@ -30,22 +30,22 @@ pub struct Cli {
 
 #[derive(Debug, Subcommand)]
 enum Command {
-    /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
-    Stock(stock::StockArgs),
-    /// The best one-, two- or three-resistor networks from stock for one value
-    Fix(fix::FixArgs),
-    /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
-    Ideal(ideal::IdealArgs),
-    /// Evaluate a stage built from given networks: the exact operating point and every check
-    Check(check::CheckArgs),
-    /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
-    Spread(spread::SpreadArgs),
     /// Fill every slot of every stage from stock so the operating points land closest to their targets
     Design(design::DesignArgs),
     /// The cheapest purchase that makes a design buildable from stock (or the best design a budget buys)
     Order(order::OrderArgs),
+    /// The best one-, two- or three-resistor networks from stock for one value
+    Fix(fix::FixArgs),
+    /// Evaluate a stage built from given networks: the exact operating point and every check
+    Check(check::CheckArgs),
+    /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
+    Ideal(ideal::IdealArgs),
+    /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
+    Spread(spread::SpreadArgs),
     /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
     Verify(verify::VerifyArgs),
+    /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
+    Stock(stock::StockArgs),
 }
 
 /// Why a command did not finish normally; each kind has its own exit code.

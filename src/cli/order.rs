@@ -196,17 +196,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         eprintln!("wrote {}", path.display());
     }
     if args.drawings.wanted() {
-        let sheet: Vec<biasfit::report::html::SheetStage> = outcome
-            .built
-            .iter()
-            .map(|b| {
-                biasfit::report::html::SheetStage::new(
-                    &design.stages[b.stage],
-                    &b.networks,
-                    b.copies,
-                )
-            })
-            .collect();
+        let sheet = super::design::sheet(&design, &outcome.built);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
         for f in args
             .drawings

@@ -2,10 +2,12 @@
 //! stages built from given networks.
 
 use super::check::networks;
+use super::drawings::DrawingArgs;
 use super::flags::whole;
 use super::ideal::{stages, PartArgs};
 use super::output::write_atomic;
 use super::{Failure, Out};
+use biasfit::report::html::{pick_list, SheetStage};
 use biasfit::report::result::read_result;
 use biasfit::report::spread::{render_spread, render_spread_svg, SpreadReport};
 use biasfit::spread::{analyse, Dist, Options};
@@ -54,9 +56,10 @@ pub struct SpreadArgs {
     /// How resistor values are drawn within their tolerance
     #[arg(long, value_enum, default_value_t = DistArg::Uniform)]
     pub dist: DistArg,
-    /// Also write the IC and VCE histograms of every stage to this SVG file
-    #[arg(long, value_name = "FILE")]
-    pub svg: Option<PathBuf>,
+    /// Drawings into DIR: each stage's load line with the Monte Carlo cloud, its schematic, and the IC and
+    /// VCE histograms (histograms.svg); --html FILE writes the build sheet
+    #[command(flatten)]
+    pub drawings: DrawingArgs,
     /// Print the report as JSON
     #[arg(long)]
     pub json: bool,
@@ -144,9 +147,28 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
         let sp = analyse(st, n, &opts).map_err(|e| Failure::Input(e.to_string()))?;
         results.push((*st, n, sp));
     }
+    let sheet: Vec<SheetStage> = results
+        .iter()
+        .map(|(st, n, sp)| {
+            let mut s = SheetStage::new(st, n, 1);
+            s.load_line = s.load_line.with_cloud(&sp.monte_carlo.cloud);
+            s
+        })
+        .collect();
     let report = SpreadReport::new(results);
-    if let Some(path) = &args.svg {
-        write_atomic(path, render_spread_svg(&report).as_bytes())?;
+    if args.drawings.wanted() {
+        let title = format!("{}: spread", design.file);
+        let mut written =
+            args.drawings
+                .write(&title, &sheet, &pick_list(&sheet), &report.cautions)?;
+        if let Some(dir) = &args.drawings.svg {
+            let path = dir.join("histograms.svg");
+            write_atomic(&path, render_spread_svg(&report).as_bytes())?;
+            written.push(path);
+        }
+        for f in written {
+            eprintln!("wrote {}", f.display());
+        }
     }
     if args.json {
         out.json(&report)

@@ -3,12 +3,14 @@
 //! baseline and, when nothing fits, the constraint that binds.
 
 use super::search::{
-    best_variants, Deviations, Effort, Evaluate, Found, Order, GAIN, IC, RC, VCE, VE,
+    best_variants, Deviations, Effort, Evaluate, Found, GainWindow, Order, GAIN, IC, RC, VCE, VE,
 };
 use super::share::{allocate, ShareError, Variant};
 use crate::network::candidates::{Candidate, Index};
 use crate::network::{Network, PartId};
-use crate::stage::{Check, Design, Slot, SlotNetworks, SlotValues, Stage, StageError, Topology};
+use crate::stage::{
+    Check, Design, Slot, SlotNetworks, SlotValues, Stage, StageError, Targets, Topology,
+};
 use crate::stock::Stock;
 use crate::units::{Celsius, Ohms};
 use std::time::{Duration, Instant};
@@ -136,6 +138,11 @@ pub enum DesignError {
         /// What binds, and the closest design.
         reason: String,
     },
+    /// The time limit passed before the search found any design of a stage.
+    #[error(
+        "stage \"{0}\": the time limit passed before any design was found; allow more --time-limit"
+    )]
+    TimedOut(String),
     /// The stock cannot cover every board.
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
     Scarce(String),
@@ -153,8 +160,9 @@ pub fn solve_order(
     topology: Topology,
     slots: &[Slot],
     ideal: &SlotValues,
-    load: Option<Ohms>,
+    targets: &Targets,
 ) -> Order {
+    let load = targets.rc;
     let pos = |s: Slot| slots.iter().position(|&x| x == s);
     let (scan, collector) = match topology {
         Topology::Divider | Topology::DividerSplit => (Slot::R1, Some(Slot::RC)),
@@ -190,6 +198,25 @@ pub fn solve_order(
         emitter_ohms,
         centre,
         collector_target: collector.and(load),
+        gain: match (
+            topology,
+            targets.gain,
+            load,
+            pos(Slot::RE1),
+            ideal.get(Slot::RE1),
+        ) {
+            (Topology::DividerSplit, Some(g), Some(rl), Some(slot), Some(re1)) if g > 0.0 => {
+                // The ideal design meets the gain exactly with RC = RL, which gives re' at the targets.
+                let ac = rl.0 / 2.0;
+                Some(GainWindow {
+                    slot,
+                    gain: g,
+                    load: rl.0,
+                    re_prime: ac / g - re1.0,
+                })
+            }
+            _ => None,
+        },
     }
 }
 
@@ -398,13 +425,16 @@ pub fn design(
                 ),
             });
         }
-        let order = solve_order(stage.topology, &slots, &ideal.values, stage.targets().rc);
+        let order = solve_order(stage.topology, &slots, &ideal.values, &stage.targets());
         let k = request.variants.max(request.alternatives + 1);
         let deadline = request.time_limit.map(|l| started + l);
         let (found, effort): (Vec<Found>, Effort) =
             best_variants(&model, &order, &candidates, k, &on_hand, deadline);
         evaluations += effort.evaluations;
         cut_short |= effort.cut_short;
+        if found.is_empty() && effort.cut_short {
+            return Err(DesignError::TimedOut(stage.name.clone()));
+        }
         if found.is_empty() {
             return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
         }
@@ -662,7 +692,7 @@ pub fn stage_variants(
         Ok(i) => i,
         Err(_) => return (Vec::new(), Effort::default()),
     };
-    let order = solve_order(stage.topology, &slots, &ideal.values, stage.targets().rc);
+    let order = solve_order(stage.topology, &slots, &ideal.values, &stage.targets());
     best_variants(&model, &order, candidates, k, on_hand, deadline)
 }
 

@@ -78,6 +78,41 @@ pub struct Order {
     /// The load RC is to match, when the error includes RC/RL: then only collector candidates within the
     /// bound of it need a look.
     pub collector_target: Option<Ohms>,
+    /// For a split emitter with a gain target and a load: the unbypassed slot's position, and what its window
+    /// follows from (see [`GainWindow`]).
+    pub gain: Option<GainWindow>,
+}
+
+/// The window of the unbypassed emitter resistor RE1 that a gain target allows.
+///
+/// The gain is A/(re' + RE1), with A = RC ∥ RL and re' = n·VT/IE. Within an error bound b, RC lies within
+/// RL·(1 ± b), IE within IE*·(1 ± b) (so re' within re*/(1 ± b)) and the gain within g*·(1 ± b); so
+/// RE1 lies within [A(RL(1−b))/(g*(1+b)) − re*/(1−b), A(RL(1+b))/(g*(1−b)) − re*/(1+b)].
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct GainWindow {
+    /// The position of RE1.
+    pub slot: usize,
+    /// The gain target g*.
+    pub gain: f64,
+    /// The load RL, ohms.
+    pub load: f64,
+    /// re' at the targets, ohms.
+    pub re_prime: f64,
+}
+
+impl GainWindow {
+    fn window(&self, bound: f64) -> (f64, f64) {
+        if bound >= 0.5 {
+            return (0.0, f64::INFINITY);
+        }
+        let ac = |rc: f64| rc * self.load / (rc + self.load);
+        let lo = ac(self.load * (1.0 - bound)) / (self.gain * (1.0 + bound))
+            - self.re_prime / (1.0 - bound);
+        let hi = ac(self.load * (1.0 + bound)) / (self.gain * (1.0 - bound))
+            - self.re_prime / (1.0 + bound);
+        // A hair of slack so that rounding never drops a candidate on the edge.
+        (lo * (1.0 - 1e-9) - 1e-9, hi * (1.0 + 1e-9) + 1e-9)
+    }
 }
 
 impl Order {
@@ -361,6 +396,13 @@ impl Pass<'_> {
             (lo - sum, hi - sum)
         } else {
             (0.0, hi - sum)
+        };
+        let (from, to) = match self.order.gain {
+            Some(g) if g.slot == slot => {
+                let (glo, ghi) = g.window(self.bound());
+                (from.max(glo), to.min(ghi))
+            }
+            _ => (from, to),
         };
         let start = list.partition_point(|c| c.ohms.0 < from);
         let mut i = start;
@@ -711,6 +753,7 @@ mod tests {
                 emitter_ohms: VE_T / (IC_T * (BETA + 1.0) / BETA),
                 centre: ideal.iter().map(|&x| Ohms(x)).collect(),
                 collector_target: Some(Ohms(RL)),
+                gain: None,
             };
             let k = 1 + (case % 7);
             let (found, _) = best_variants(&Divider, &order, &lists, k, &stock, None);

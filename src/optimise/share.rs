@@ -183,7 +183,8 @@ fn summarise(variants: &[Variant], mut chosen: Vec<(usize, u32)>, proven: bool) 
     }
 }
 
-/// The allocation with the smallest sum that uses only variants with error ≤ `threshold`, if any.
+/// The allocation with the smallest sum that uses only variants with cost ≤ `threshold`, if any: the
+/// purchase program with nothing to buy.
 fn solve(
     variants: &[Variant],
     stages: usize,
@@ -192,79 +193,17 @@ fn solve(
     threshold: f64,
     time_limit: Option<Duration>,
 ) -> Result<Option<Allocation>, ShareError> {
-    let allowed: Vec<usize> = (0..variants.len())
-        .filter(|&i| cost(&variants[i]) <= threshold + ERROR_EPSILON)
-        .collect();
-    for s in 0..stages {
-        if !allowed.iter().any(|&i| variants[i].stage == s) {
-            return Ok(None);
-        }
-    }
-    let mut problem = ProblemVariables::new();
-    let x: Vec<Variable> = allowed
-        .iter()
-        .map(|_| problem.add(variable().integer().min(0).max(copies as f64)))
-        .collect();
-    let objective: Expression = allowed
-        .iter()
-        .zip(&x)
-        .map(|(&i, &xi)| cost(&variants[i]) * xi)
-        .sum();
-    let mut model = problem.minimise(objective).using(microlp);
-    if let Some(limit) = time_limit {
-        model = model.with_time_limit(limit.as_secs_f64().max(0.01));
-    }
-    for s in 0..stages {
-        let boards: Expression = allowed
-            .iter()
-            .zip(&x)
-            .filter(|(&i, _)| variants[i].stage == s)
-            .map(|(_, &xi)| xi)
-            .sum();
-        model = model.with(constraint!(boards == copies as f64));
-    }
-    let mut per_part: BTreeMap<PartId, Expression> = BTreeMap::new();
-    for (&i, &xi) in allowed.iter().zip(&x) {
-        for &(p, c) in &variants[i].uses {
-            *per_part.entry(p).or_default() += c as f64 * xi;
-        }
-    }
-    for (p, used) in per_part {
-        let on_hand = stock.get(p).copied().unwrap_or(0) as f64;
-        model = model.with(constraint!(used <= on_hand));
-    }
-    let solution = match model.solve() {
-        Ok(s) => s,
-        Err(ResolutionError::Infeasible) => return Ok(None),
-        Err(ResolutionError::Other(msg)) if msg.contains("Time limit") => {
-            return Err(ShareError::TimedOut)
-        }
-        Err(e) => return Err(ShareError::Solver(e.to_string())),
-    };
-    let proven = matches!(solution.status(), SolutionStatus::Optimal);
-    let chosen: Vec<(usize, u32)> = allowed
-        .iter()
-        .zip(&x)
-        .filter_map(|(&i, &xi)| {
-            let n = solution.value(xi).round();
-            (n >= 1.0).then_some((i, n as u32))
-        })
-        .collect();
-    // The solver works in floating point: verify its answer exactly before trusting it.
-    let complete = (0..stages).all(|s| {
-        chosen
-            .iter()
-            .filter(|&&(i, _)| variants[i].stage == s)
-            .map(|&(_, n)| n)
-            .sum::<u32>()
-            == copies
-    });
-    if !complete || !fits(variants, &chosen, stock) {
-        return Err(ShareError::Solver(
-            "the solver returned an allocation that does not check out".into(),
-        ));
-    }
-    Ok(Some(summarise(variants, chosen, proven)))
+    Ok(solve_buying(
+        variants,
+        stages,
+        copies,
+        stock,
+        &[],
+        threshold,
+        None,
+        time_limit,
+    )?
+    .map(|b| b.allocation))
 }
 
 #[cfg(test)]
@@ -630,6 +569,8 @@ fn solve_buying(
         .map(|(&i, &xi)| cost(&variants[i]) * xi)
         .sum();
     let objective = match budget {
+        // Nothing to buy: the errors alone, unscaled, so the solver's tolerances see them at full size.
+        None if offers.is_empty() => errors,
         None => money.clone() + ERROR_WEIGHT * errors,
         // Money breaks ties: far below any difference in error.
         Some(_) => errors + 1e-9 * money.clone(),

@@ -106,7 +106,13 @@ pub struct MonteCarlo {
     pub ic_histogram: Histogram,
     /// The builds' VCE, volts.
     pub vce_histogram: Histogram,
+    /// Up to [`CLOUD_POINTS`] of the builds' (VCE, IC), evenly taken, for drawing on the load line.
+    #[serde(skip)]
+    pub cloud: Vec<(Volts, Amps)>,
 }
+
+/// The most builds drawn as the Monte Carlo cloud: enough to show its shape, few enough for a small file.
+pub const CLOUD_POINTS: usize = 2000;
 
 /// Runs `runs` builds of the stage from `seed`, binning IC and VCE into `bins` bins.
 pub fn monte_carlo(
@@ -174,6 +180,13 @@ pub fn monte_carlo(
         ve: Summary::of(&ve),
         ic_histogram: Histogram::of(&ic, bins),
         vce_histogram: Histogram::of(&vce, bins),
+        cloud: {
+            let step = runs.div_ceil(CLOUD_POINTS).max(1);
+            (0..runs)
+                .step_by(step)
+                .map(|k| (Volts(vce[k]), Amps(ic[k])))
+                .collect()
+        },
     }
 }
 
