@@ -453,7 +453,8 @@ impl<'a> Tab<'a> {
         let text = item
             .span()
             .and_then(|s: Range<usize>| cx.text.get(s))
-            .map(|s| s.trim().to_string())
+            // A value written over several lines (an array) is quoted on one, so a refusal stays one line.
+            .map(|s| s.lines().map(str::trim).collect::<Vec<_>>().join(" "))
             .unwrap_or_else(|| match item {
                 Item::Table(_) => format!("[{}.{key}]", self.path),
                 _ => "(value)".into(),
