@@ -142,7 +142,10 @@ fn apply(mut bytes: Vec<u8>, edits: &[Edit]) -> Vec<u8> {
             }
             Edit::DuplicateLine(p) => {
                 let i = at(*p, bytes.len());
-                let start = bytes[..i].iter().rposition(|&b| b == b'\n').map_or(0, |k| k + 1);
+                let start = bytes[..i]
+                    .iter()
+                    .rposition(|&b| b == b'\n')
+                    .map_or(0, |k| k + 1);
                 let end = bytes[i..]
                     .iter()
                     .position(|&b| b == b'\n')
@@ -206,14 +209,21 @@ fn all_file_parsers(bytes: &[u8]) -> Result<(), TestCaseError> {
         Ok(design) => {
             for s in &design.stages {
                 let ideal = s.ideal();
-                prop_assert!(ideal.is_ok(), "accepted without an ideal design: {:?}", ideal);
+                prop_assert!(
+                    ideal.is_ok(),
+                    "accepted without an ideal design: {:?}",
+                    ideal
+                );
                 let v = ideal.unwrap().values;
                 for (_, r) in v.iter() {
                     prop_assert!((MIN_OHMS..=MAX_OHMS).contains(&r.0));
                 }
                 prop_assert!(s.error(&v).is_finite());
                 let nets = v.iter().fold(SlotNetworks::new(), |mut n, (slot, r)| {
-                    n.set(slot, Network::Single(Member::loose(r, Tolerance(0.05), Watts(0.25))));
+                    n.set(
+                        slot,
+                        Network::Single(Member::loose(r, Tolerance(0.05), Watts(0.25))),
+                    );
                     n
                 });
                 let _ = s.checks(&nets);
