@@ -327,7 +327,42 @@ fn kept(network: &Network) -> Candidate {
 type Searched = (Vec<Slot>, Vec<Vec<Candidate>>, Vec<Found>);
 
 /// Designs every stage of `design` from `stock`.
+///
+/// When the stock is too scarce for the variants generated, it generates more (four times as many, up to
+/// [`MAX_VARIANTS`] a stage) before it reports the stock short: more variants can only widen the choice.
 pub fn design(
+    design: &Design,
+    stock: &Stock,
+    request: &Request,
+    progress: &mut dyn FnMut(&str),
+) -> Result<Outcome, DesignError> {
+    let started = Instant::now();
+    let mut attempt = request.clone();
+    loop {
+        match design_once(design, stock, &attempt, progress) {
+            Err(DesignError::Scarce(_)) if attempt.variants < MAX_VARIANTS => {
+                if let Some(limit) = request.time_limit {
+                    match limit.checked_sub(started.elapsed()) {
+                        Some(left) if !left.is_zero() => attempt.time_limit = Some(left),
+                        _ => return design_once(design, stock, &attempt, progress),
+                    }
+                }
+                attempt.variants = (attempt.variants * 4).min(MAX_VARIANTS);
+                progress(&format!(
+                    "the stock is scarce: trying {} variants a stage",
+                    attempt.variants
+                ));
+            }
+            other => return other,
+        }
+    }
+}
+
+/// The most variants a stage gets when the stock is scarce.
+pub const MAX_VARIANTS: usize = 3200;
+
+/// One attempt of [`design`] with the request's number of variants.
+fn design_once(
     design: &Design,
     stock: &Stock,
     request: &Request,
