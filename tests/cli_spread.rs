@@ -4,7 +4,7 @@
 
 mod common;
 use common::*;
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 
 const LINE_DRIVER: [&str; 4] = [
     "spread",
@@ -245,8 +245,7 @@ fn bad_input_is_refused_in_one_line() {
 
 #[test]
 fn readme_shows_real_output() {
-    let readme =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let readme = user_docs();
     let args = with(&[]);
     let out = stdout(&biasfit(&args));
     let block = format!("$ biasfit {}\n{out}```", args.join(" "));

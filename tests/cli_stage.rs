@@ -1,24 +1,13 @@
 //! `biasfit ideal` and `biasfit check` through the real binary, on the demo design files and fixtures.
 
+mod common;
+use common::*;
 use serde_json::Value;
-use std::path::Path;
-use std::process::{Command, Output};
-
-fn biasfit(args: &[&str]) -> Output {
-    Command::new(env!("CARGO_BIN_EXE_biasfit"))
-        .args(args)
-        .current_dir(Path::new(env!("CARGO_MANIFEST_DIR")))
-        .output()
-        .expect("the binary runs")
-}
+use std::process::Output;
 
 fn json(out: &Output) -> Value {
     serde_json::from_slice(&out.stdout)
         .unwrap_or_else(|e| panic!("not JSON ({e}): {}", String::from_utf8_lossy(&out.stdout)))
-}
-
-fn stderr(out: &Output) -> String {
-    String::from_utf8_lossy(&out.stderr).into_owned()
 }
 
 const DEMOS: [&str; 5] = [
@@ -233,8 +222,7 @@ fn fifty_volts_and_up_prints_the_caution() {
 
 #[test]
 fn readme_shows_real_output_and_a_valid_design_file() {
-    let readme =
-        std::fs::read_to_string(Path::new(env!("CARGO_MANIFEST_DIR")).join("README.md")).unwrap();
+    let readme = user_docs();
     for (args, shown) in [
         (
             vec!["ideal", "examples/line-driver.toml"],
@@ -257,7 +245,7 @@ fn readme_shows_real_output_and_a_valid_design_file() {
             "README's output of {args:?} is stale; it is now:\n{out}"
         );
     }
-    let start = readme.find("### Design file (TOML)").unwrap();
+    let start = readme.find("## Design file (TOML)").unwrap();
     let toml_start = readme[start..].find("```toml\n").unwrap() + start + 8;
     let toml_end = readme[toml_start..].find("```").unwrap() + toml_start;
     let design = biasfit::stage::parse("README.md", &readme[toml_start..toml_end]).unwrap();

@@ -274,7 +274,7 @@ fn bad_input_is_refused_on_one_line() {
 
 #[test]
 fn readme_shows_real_verify_output() {
-    let readme = std::fs::read_to_string(root().join("README.md")).unwrap();
+    let readme = user_docs();
     let measured = "VB=1.84,VE=1.19,VC=5.2";
     let out = stdout(&verify(measured, false));
     let block = format!("$ biasfit verify {FILE} --use {BUILT} --measured {measured}\n{out}```");
