@@ -186,8 +186,10 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     let outcome = match outcome {
         Ok(o) => o,
         Err(
-            e
-            @ (DesignError::Infeasible { .. } | DesignError::Scarce(_) | DesignError::TimedOut(_)),
+            e @ (DesignError::Infeasible { .. }
+            | DesignError::Scarce(_)
+            | DesignError::TimedOut(_)
+            | DesignError::EmptyStock(_)),
         ) => return Err(Failure::Infeasible(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),
     };

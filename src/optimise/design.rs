@@ -146,6 +146,9 @@ pub enum DesignError {
     /// The stock cannot cover every board.
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
     Scarce(String),
+    /// The stock holds no piece at all (no rows, or every quantity 0), so no slot can be filled.
+    #[error("{0}: no part has any pieces on hand, so no network can be built; expected at least one row with a quantity above 0 (or `biasfit order` for a shopping list)")]
+    EmptyStock(String),
 }
 
 /// The most networks one slot's window may hold (before deduplication) before the window is narrowed.
@@ -336,6 +339,9 @@ pub fn design(
     request: &Request,
     progress: &mut dyn FnMut(&str),
 ) -> Result<Outcome, DesignError> {
+    if stock.parts.iter().all(|p| p.qty == 0) {
+        return Err(DesignError::EmptyStock(stock.file.clone()));
+    }
     let started = Instant::now();
     let mut attempt = request.clone();
     loop {

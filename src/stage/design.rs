@@ -151,7 +151,7 @@ pub fn load(path: &Path) -> Result<Design, DesignError> {
 /// Reads a design file's text; `file` names it in messages.
 pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
     let text = text.strip_prefix('\u{feff}').unwrap_or(text);
-    let cx = Cx { file, text };
+    let cx = Cx::new(file, text);
     let doc = ImDocument::parse(text).map_err(|e| DesignError::Syntax {
         file: file.to_string(),
         line: e.span().map_or(1, |s| cx.line(s.start)),
@@ -188,6 +188,7 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
         });
     };
     let mut stages = Vec::new();
+    let mut names: std::collections::HashMap<String, usize> = std::collections::HashMap::new();
     for (n, t) in list.iter().enumerate() {
         let line = t.span().map_or(1, |s| cx.line(s.start));
         let tab = Tab::of_table(&cx, "[[stage]]", "stage", line, t, STAGE_KEYS)?;
@@ -205,18 +206,17 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
                 ),
             });
         }
-        if let Some(prev) = stages.iter().find(|s: &&Stage| s.name == stage.name) {
+        // A map rather than a scan of the stages so far, which made thousands of stages quadratic.
+        if let Some(&prev) = names.get(stage.name.as_str()) {
             return Err(DesignError::Field {
                 file: file.into(),
                 line,
                 field: "stage.name".into(),
                 text: format!("\"{}\"", stage.name),
-                expected: format!(
-                    "stage names must differ (line {} has the same); rename one",
-                    prev.line
-                ),
+                expected: format!("stage names must differ (line {prev} has the same); rename one"),
             });
         }
+        names.insert(stage.name.clone(), stage.line);
         stages.push(stage);
     }
     if stages.is_empty() {
@@ -277,18 +277,36 @@ pub const DEFAULT_RULE: Rule = Rule {
     ic_spread: 0.25,
 };
 
+/// What every reading step needs: the file's name, its text, and where each of its lines starts.
 struct Cx<'a> {
     file: &'a str,
     text: &'a str,
+    /// Byte offset of each line's first byte (0 first), so that a key's line is a binary search rather
+    /// than a count from the start of the file, which made a file of thousands of stages quadratic.
+    line_starts: Vec<usize>,
 }
 
-impl Cx<'_> {
+impl<'a> Cx<'a> {
+    fn new(file: &'a str, text: &'a str) -> Cx<'a> {
+        let line_starts = std::iter::once(0)
+            .chain(
+                text.bytes()
+                    .enumerate()
+                    .filter(|&(_, b)| b == b'\n')
+                    .map(|(i, _)| i + 1),
+            )
+            .collect();
+        Cx {
+            file,
+            text,
+            line_starts,
+        }
+    }
+
+    /// The 1-based line holding a byte offset (the number of lines that start at or before it).
     fn line(&self, offset: usize) -> usize {
-        self.text.as_bytes()[..offset.min(self.text.len())]
-            .iter()
-            .filter(|&&b| b == b'\n')
-            .count()
-            + 1
+        self.line_starts
+            .partition_point(|&s| s <= offset.min(self.text.len()))
     }
 
     fn unknown(
@@ -1183,4 +1201,39 @@ fn read_limits(cx: &Cx, t: &mut Tab) -> Result<Limits, DesignError> {
         ambient,
         temperature,
     })
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn line_numbers_match_a_count_of_the_newlines_before() {
+        let text = "a\nbb\n\nccc\r\nd";
+        let cx = Cx::new("t.toml", text);
+        for offset in 0..=text.len() + 3 {
+            let counted = text.as_bytes()[..offset.min(text.len())]
+                .iter()
+                .filter(|&&b| b == b'\n')
+                .count()
+                + 1;
+            assert_eq!(cx.line(offset), counted, "offset {offset}");
+        }
+        assert_eq!(Cx::new("e.toml", "").line(0), 1);
+    }
+
+    #[test]
+    fn a_repeated_stage_name_names_the_first_line() {
+        let stage = include_str!("../../examples/line-driver.toml");
+        let text = format!("{stage}\n{stage}");
+        let second = text.match_indices("[[stage]]").nth(1).unwrap().0;
+        let err = parse("t.toml", &text).unwrap_err().to_string();
+        let first = stage[..stage.find("[[stage]]").unwrap()]
+            .matches('\n')
+            .count()
+            + 1;
+        let at = text[..second].matches('\n').count() + 1;
+        assert!(err.starts_with(&format!("t.toml:{at}:")), "{err}");
+        assert!(err.contains(&format!("line {first} has the same")), "{err}");
+    }
 }
