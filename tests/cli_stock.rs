@@ -53,6 +53,27 @@ fn quirky_but_valid_files_load() {
 }
 
 #[test]
+fn cr_lf_and_crlf_line_ends_read_alike() {
+    // Issue 18: a CR-only file (old spreadsheet exports) once read as one line, "0 distinct values".
+    let cr = std::fs::read_to_string(root().join("tests/fixtures/stock/cr-only.csv")).unwrap();
+    assert!(!cr.contains('\n'), "the fixture has CR-only line ends");
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("line-ends");
+    std::fs::create_dir_all(&dir).unwrap();
+    let mut seen = Vec::new();
+    for (name, end) in [("cr", "\r"), ("lf", "\n"), ("crlf", "\r\n")] {
+        let path = dir.join(format!("{name}.csv"));
+        std::fs::write(&path, cr.replace('\r', end)).unwrap();
+        let out = biasfit(&["stock", path.to_str().unwrap(), "--json"]);
+        assert!(out.status.success(), "{name}: {}", stderr(&out));
+        let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+        assert_eq!(v["distinct"], 3, "{name}");
+        assert_eq!(v["pieces"], 23, "{name}");
+        seen.push((v["range"].clone(), v["decades"].clone()));
+    }
+    assert!(seen.windows(2).all(|w| w[0] == w[1]), "{seen:?}");
+}
+
+#[test]
 fn a_missing_file_is_an_input_error() {
     let out = biasfit(&["stock", "no/such/file.csv"]);
     assert_eq!(out.status.code(), Some(2));

@@ -1,5 +1,6 @@
 //! CSV text as biasfit reads it, shared by every CSV it accepts (the stock, the catalogue, the order list):
-//! UTF-8 with or without a byte-order mark, LF or CRLF line ends, blank lines and `#` comment lines skipped,
+//! UTF-8 with or without a byte-order mark, LF, CRLF or CR-only line ends (old spreadsheet exports) alike,
+//! blank lines and `#` comment lines skipped,
 //! the delimiter (comma, semicolon or tab) read from the header line, and columns found by header name in any
 //! order and case.
 //!
@@ -168,6 +169,8 @@ pub enum LineEnd {
     Lf,
     /// `\r\n`.
     CrLf,
+    /// `\r` alone, as old spreadsheet programs wrote.
+    Cr,
 }
 
 impl LineEnd {
@@ -176,6 +179,7 @@ impl LineEnd {
         match self {
             LineEnd::Lf => "\n",
             LineEnd::CrLf => "\r\n",
+            LineEnd::Cr => "\r",
         }
     }
 }
@@ -262,14 +266,54 @@ pub fn read_bytes(path: &Path, kind: &'static str) -> Result<Vec<u8>, CsvError> 
     })
 }
 
+/// The lines of a text: (byte offset of the line, its text without the line end, the line end if any).
+/// LF, CRLF and a CR alone each end a line, so a file reads the same whichever its program wrote.
+fn lines(text: &str) -> impl Iterator<Item = (usize, &str, Option<LineEnd>)> {
+    let bytes = text.as_bytes();
+    let mut at = 0;
+    std::iter::from_fn(move || {
+        if at > bytes.len() || (at == bytes.len() && at > 0 && ends_line(bytes[at - 1])) {
+            return None;
+        }
+        let start = at;
+        let len = bytes[start..]
+            .iter()
+            .position(|&b| ends_line(b))
+            .unwrap_or(bytes.len() - start);
+        let end = start + len;
+        let (line_end, next) = match bytes.get(end) {
+            None => (None, end + 1),
+            Some(b'\n') => (Some(LineEnd::Lf), end + 1),
+            Some(_) if bytes.get(end + 1) == Some(&b'\n') => (Some(LineEnd::CrLf), end + 2),
+            Some(_) => (Some(LineEnd::Cr), end + 1),
+        };
+        at = next;
+        // Both ends sit on ASCII bytes, so the slice falls on character boundaries.
+        Some((start, &text[start..end], line_end))
+    })
+}
+
+fn ends_line(b: u8) -> bool {
+    b == b'\n' || b == b'\r'
+}
+
+/// How many line ends (LF, CRLF or CR alone) a file's bytes hold.
+pub fn line_ends(bytes: &[u8]) -> usize {
+    bytes
+        .iter()
+        .enumerate()
+        .filter(|&(i, &b)| b == b'\n' || (b == b'\r' && bytes.get(i + 1) != Some(&b'\n')))
+        .count()
+}
+
 /// The 1-based line and column of a byte offset.
 fn line_of(bytes: &[u8], offset: usize) -> (usize, usize) {
     let before = &bytes[..offset.min(bytes.len())];
-    let line = before.iter().filter(|&&b| b == b'\n').count() + 1;
+    let line = line_ends(before) + 1;
     let col = offset
         - before
             .iter()
-            .rposition(|&b| b == b'\n')
+            .rposition(|&b| ends_line(b))
             .map_or(0, |p| p + 1)
         + 1;
     (line, col)
@@ -401,17 +445,13 @@ impl Table {
             line,
             message,
         };
-        // (1-based line, byte offset in the file, text without its line end, whether that end was CRLF)
-        let mut lines = Vec::new();
-        let mut offset = bom;
-        for (i, l) in text.split('\n').enumerate() {
-            let content = l.strip_suffix('\r').unwrap_or(l);
-            if !is_skipped(content) {
-                lines.push((i + 1, offset, content, content.len() < l.len()));
-            }
-            offset += l.len() + 1;
-        }
-        let Some(&(header_line, header_at, header_text, crlf)) = lines.first() else {
+        // (1-based line, byte offset in the file, text without its line end, the line end)
+        let lines: Vec<(usize, usize, &str, Option<LineEnd>)> = lines(text)
+            .enumerate()
+            .filter(|(_, (_, content, _))| !is_skipped(content))
+            .map(|(i, (at, content, end))| (i + 1, bom + at, content, end))
+            .collect();
+        let Some(&(header_line, header_at, header_text, header_end)) = lines.first() else {
             return Err(CsvError::NoHeader {
                 file: file.to_string(),
                 example: schema.example_header,
@@ -498,8 +538,9 @@ impl Table {
             records,
             layout: Layout {
                 delimiter,
-                line_end: if crlf { LineEnd::CrLf } else { LineEnd::Lf },
-                ends_with_newline: text.is_empty() || text.ends_with('\n'),
+                // A header with no line end (a one-line file) gets LF, the common case.
+                line_end: header_end.unwrap_or(LineEnd::Lf),
+                ends_with_newline: text.is_empty() || text.ends_with(['\n', '\r']),
                 width,
                 columns,
             },
@@ -594,6 +635,34 @@ mod tests {
         assert_eq!(&text.as_bytes()[qty.span.clone()], b"12");
         let value = t.field(r, "value").unwrap();
         assert_eq!(&text.as_bytes()[value.span.clone()], b"4k7");
+    }
+
+    #[test]
+    fn cr_lf_and_crlf_end_lines_alike() {
+        let lf = "# c\nvalue,qty\n\n4k7,\"12\"\n# x\n1k,3\n";
+        for end in ["\n", "\r\n", "\r"] {
+            let text = lf.replace('\n', end);
+            let t = table(&text).unwrap();
+            assert_eq!(t.header.line, 2, "{end:?}");
+            let lines: Vec<usize> = t.records.iter().map(|r| r.line).collect();
+            assert_eq!(lines, [4, 6], "{end:?}");
+            let qty = t.field(&t.records[0], "qty").unwrap();
+            assert_eq!(&text.as_bytes()[qty.span.clone()], b"12", "{end:?}");
+            assert_eq!(t.layout.line_end.as_str(), end);
+            assert!(t.layout.ends_with_newline);
+            assert_eq!(line_ends(text.as_bytes()), 6, "{end:?}");
+        }
+        // Mixed ends in one file still count one line each.
+        let t = table("value,qty\r1k,1\n2k,2\r\n3k,x\r").unwrap();
+        assert_eq!(
+            t.records.iter().map(|r| r.line).collect::<Vec<_>>(),
+            [2, 3, 4]
+        );
+        let err = Table::parse("t.csv", b"value,qty\r1k,1\r\xff\r", &SCHEMA).unwrap_err();
+        assert_eq!(
+            err.to_string(),
+            "t.csv:3: the file is not UTF-8 text (byte 1); save it as UTF-8 CSV"
+        );
     }
 
     #[test]
