@@ -7,6 +7,14 @@
 //! Every record is one line (a quoted field may not span lines), and every field remembers the byte range of
 //! its text in the file, so that a command can rewrite one field and keep every other byte as it was. Nothing
 //! here knows what a column means; each file kind names its columns in a [`Schema`].
+//!
+//! Why this reader rather than the `csv` crate (a measured reason, issue 18): the stock edits rewrite one
+//! field in place, so every field needs its byte range in the file, and the crate gives none (a record's
+//! field ranges index its own buffer, with delimiters and quotes dropped). Measured on the 58 CSV files of
+//! the bad-input corpus, the fixtures and the demo stocks, the crate's ranges put 1 992 of 2 585 fields at
+//! the wrong byte, and it accepted 15 files this reader refuses at a line (text after a closing quote, an
+//! unclosed quote, too many fields, a quote spanning lines). Keeping every message and span would mean
+//! re-scanning each line by hand after the crate, so the crate would only add a second parser.
 
 use std::collections::HashMap;
 use std::ops::Range;
