@@ -1,8 +1,7 @@
 //! CSV text as biasfit reads it, shared by every CSV it accepts (the stock, the catalogue, the order list):
 //! UTF-8 with or without a byte-order mark, LF, CRLF or CR-only line ends (old spreadsheet exports) alike,
-//! blank lines and `#` comment lines skipped,
-//! the delimiter (comma, semicolon or tab) read from the header line, and columns found by header name in any
-//! order and case.
+//! blank lines and `#` comment lines skipped, the delimiter (comma, semicolon or tab) read from the header
+//! line, and columns found by header name in any order and case.
 //!
 //! Every record is one line (a quoted field may not span lines), and every field remembers the byte range of
 //! its text in the file, so that a command can rewrite one field and keep every other byte as it was. Nothing
@@ -14,8 +13,8 @@
 //! the bad-input corpus, the fixtures and the demo stocks, the crate's ranges put 1 992 of 2 585 fields at
 //! the wrong byte, and its record layer reads without complaint two corpus files this reader refuses at
 //! their line (text after a closing quote; an unclosed quote, which it lets run to the end of the file).
-//! Keeping every message and span would mean
-//! re-scanning each line by hand after the crate, so the crate would only add a second parser.
+//! Keeping every message and span would mean re-scanning each line by hand after the crate, so the crate
+//! would only add a second parser.
 
 use std::collections::HashMap;
 use std::ops::Range;
