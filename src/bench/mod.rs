@@ -43,13 +43,13 @@ pub const MIN_SCORE: f64 = 0.01;
 #[derive(Clone, Debug, PartialEq, thiserror::Error)]
 pub enum BenchError {
     /// A reading is not NAME=VOLTS.
-    #[error("--measured: \"{text}\" is not a reading; expected NODE=VOLTS with NODE one of VB, VE, VC, as in VB=2.05,VE=1.41,VC=6.3")]
+    #[error("--measured: \"{}\" is not a reading; expected NODE=VOLTS with NODE one of VB, VE, VC, as in VB=2.05,VE=1.41,VC=6.3", crate::notation::excerpt(.text))]
     Shape {
         /// The text as given.
         text: String,
     },
     /// The node is not VB, VE or VC.
-    #[error("--measured: \"{node}\" is not a node; expected VB, VE or VC")]
+    #[error("--measured: \"{}\" is not a node; expected VB, VE or VC", crate::notation::excerpt(.node))]
     Node {
         /// The node as given.
         node: String,

@@ -137,7 +137,7 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
             .drawings
             .write(&title, &sheet, &pick_list(&sheet), &report.cautions)?
         {
-            eprintln!("wrote {}", f.display());
+            super::output::note(&format!("wrote {}", f.display()));
         }
     }
     if args.json {

@@ -201,7 +201,7 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
             .drawings
             .write(&title, &sheet, &report.pick, &report.cautions)?
         {
-            eprintln!("wrote {}", f.display());
+            super::output::note(&format!("wrote {}", f.display()));
         }
     }
     if args.json {

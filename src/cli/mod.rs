@@ -91,7 +91,10 @@ pub fn main() -> ExitCode {
             }
             let args: Vec<String> = std::env::args().skip(1).collect();
             let command = flags::command_path(&<Cli as clap::CommandFactory>::command(), &args);
-            eprintln!("{}", flags::one_line(&e.render().to_string(), &command));
+            eprintln!(
+                "{}",
+                output::one_line(&flags::one_line(&e.render().to_string(), &command))
+            );
             return ExitCode::from(2);
         }
     };
@@ -115,9 +118,9 @@ pub fn main() -> ExitCode {
         Err(f) => {
             match &f {
                 Failure::Input(m) | Failure::Infeasible(m) | Failure::Io(m) => {
-                    // One line, whatever a library or system message holds.
-                    let m: Vec<&str> = m.lines().map(str::trim).filter(|l| !l.is_empty()).collect();
-                    eprintln!("error: {}", m.join(" "))
+                    // One line, whatever a library or system message holds, and no control character
+                    // from a file reaches the terminal.
+                    eprintln!("error: {}", output::one_line(m))
                 }
                 Failure::ChecksFailed => {}
             }

@@ -193,7 +193,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         .retain(|p| p.location.as_deref() != Some("to buy"));
     if let Some(path) = &args.csv {
         write_atomic(path, render_csv(&outcome.lines).as_bytes())?;
-        eprintln!("wrote {}", path.display());
+        super::output::note(&format!("wrote {}", path.display()));
     }
     if args.drawings.wanted() {
         let sheet = super::design::sheet(&design, &outcome.built);
@@ -202,7 +202,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
             .drawings
             .write(&title, &sheet, &report.pick, &report.cautions)?
         {
-            eprintln!("wrote {}", f.display());
+            super::output::note(&format!("wrote {}", f.display()));
         }
     }
     let goal_report = match goal {

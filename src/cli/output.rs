@@ -2,6 +2,7 @@
 //! closed pipe (`biasfit … | head`) treated as the reader having had enough rather than as an error.
 
 use super::Failure;
+use biasfit::notation::text::{json_printable, printable};
 use std::io::{IsTerminal, Write};
 
 /// The command's standard output.
@@ -32,8 +33,9 @@ impl Out {
         self.colour
     }
 
-    /// Writes text as it is.
+    /// Writes text, with control characters from files shown as escapes (colour kept on a terminal).
     pub fn text(&mut self, s: &str) -> Result<(), Failure> {
+        let s = printable(s, self.colour);
         let r = self
             .sink
             .write_all(s.as_bytes())
@@ -50,7 +52,7 @@ impl Out {
     pub fn json<T: serde::Serialize>(&mut self, value: &T) -> Result<(), Failure> {
         let s = serde_json::to_string_pretty(value)
             .map_err(|e| Failure::Io(format!("cannot write JSON: {e}")))?;
-        self.text(&s)?;
+        self.text(&json_printable(&s))?;
         self.text("\n")
     }
 }
@@ -66,8 +68,23 @@ pub fn write_atomic(path: &std::path::Path, bytes: &[u8]) -> Result<(), Failure>
 /// Prints warnings to stderr, each once, prefixed so they stand out from the report.
 pub fn warn_all(warnings: &[String]) {
     for w in warnings {
-        eprintln!("warning: {w}");
+        eprintln!("warning: {}", one_line(w));
     }
+}
+
+/// Prints a note for the user on stderr (a file written), safe to show.
+pub fn note(text: &str) {
+    eprintln!("{}", one_line(text));
+}
+
+/// A message as one line safe for a terminal: its lines joined, control characters shown as escapes.
+pub fn one_line(message: &str) -> String {
+    let m: Vec<&str> = message
+        .lines()
+        .map(str::trim)
+        .filter(|l| !l.is_empty())
+        .collect();
+    printable(&m.join(" "), false).into_owned()
 }
 
 /// A progress line on stderr for work that may take more than a second: silent for the first second, then a
@@ -97,7 +114,7 @@ impl Progress {
                     if started.elapsed().as_secs_f64() < 1.0 || done.load(Ordering::Relaxed) {
                         continue;
                     }
-                    let text = phase.lock().map(|p| p.clone()).unwrap_or_default();
+                    let text = phase.lock().map(|p| one_line(&p)).unwrap_or_default();
                     eprint!(
                         "\r\x1b[2K{} {text} ({:.0} s)",
                         frames[i % 4],

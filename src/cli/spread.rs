@@ -167,7 +167,7 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
             written.push(path);
         }
         for f in written {
-            eprintln!("wrote {}", f.display());
+            super::output::note(&format!("wrote {}", f.display()));
         }
     }
     if args.json {

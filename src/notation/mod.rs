@@ -6,6 +6,7 @@
 pub mod eseries;
 pub mod network;
 pub mod quantity;
+pub mod text;
 pub mod value;
 
 pub use eseries::Series;
@@ -14,4 +15,5 @@ pub use quantity::{
     engineering, parse_amps, parse_power, parse_tolerance, parse_volts, parse_watts, trim_number,
     QuantityError,
 };
+pub use text::{excerpt, printable};
 pub use value::{code, parse_ohms, Code, ValueError};

@@ -8,7 +8,7 @@ use crate::units::{Tolerance, Watts};
 
 /// A network notation that could not be read.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
-#[error("\"{input}\" is not a resistor network: {reason} (at character {position}); expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k")]
+#[error("\"{}\" is not a resistor network: {reason} (at character {position}); expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k", super::text::excerpt(.input))]
 pub struct NetworkError {
     /// The text as given.
     pub input: String,
@@ -125,7 +125,7 @@ impl Parser<'_> {
                         self.at = start;
                         self.fail(format!(
                             "\"{}\" is not a resistance: {}",
-                            text.trim(),
+                            super::text::excerpt(text.trim()),
                             e.reason
                         ))
                     }

@@ -5,7 +5,7 @@ use crate::units::{Amps, Tolerance, Volts, Watts};
 
 /// A quantity that could not be read, with the text, what it should be and why.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
-#[error("\"{input}\" is not a {what}: {reason}; expected {example}")]
+#[error("\"{}\" is not a {what}: {reason}; expected {example}", super::text::excerpt(.input))]
 pub struct QuantityError {
     /// The text as given.
     pub input: String,

@@ -14,7 +14,7 @@ pub const MAX_OHMS: f64 = 1e12;
 
 /// A resistance that could not be read, with the text and the reason.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
-#[error("\"{input}\" is not a resistance: {reason}; expected a value such as 4k7, 470R, R47, 2M2, 4.7k or 4700")]
+#[error("\"{}\" is not a resistance: {reason}; expected a value such as 4k7, 470R, R47, 2M2, 4.7k or 4700", super::text::excerpt(.input))]
 pub struct ValueError {
     /// The text as given.
     pub input: String,

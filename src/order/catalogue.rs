@@ -247,8 +247,9 @@ impl Catalogue {
                 field(
                     "price",
                     format!(
-                        "\"{price_text}\" is not a price; expected a plain number of your currency per \
-                         piece, such as 0.12 (a point for the decimal mark, no currency sign)"
+                        "\"{}\" is not a price; expected a plain number of your currency per \
+                         piece, such as 0.12 (a point for the decimal mark, no currency sign)",
+                        crate::notation::excerpt(price_text)
                     ),
                 )
             })?;
@@ -262,8 +263,9 @@ impl Catalogue {
                         field(
                             "pack",
                             format!(
-                                "\"{pack_text}\" is not a pack size; expected a whole number of pieces per \
-                                 pack, 1 or more"
+                                "\"{}\" is not a pack size; expected a whole number of pieces per \
+                                 pack, 1 or more",
+                                crate::notation::excerpt(pack_text)
                             ),
                         )
                     })?

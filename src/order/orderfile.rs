@@ -140,7 +140,10 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Arrivals, C
         let qty = crate::stock::parse_count(qty_text).ok_or_else(|| {
             field(
                 "qty",
-                format!("\"{qty_text}\" is not a quantity; expected a whole number of pieces, 0 or more"),
+                format!(
+                    "\"{}\" is not a quantity; expected a whole number of pieces, 0 or more",
+                    crate::notation::excerpt(qty_text)
+                ),
             )
         })?;
         let tolerance = match get("tolerance") {

@@ -83,7 +83,8 @@ impl Reader<'_> {
             return self.fail(
                 format!("{place}.parts"),
                 format!(
-                    "the network \"{text}\" has {} resistor(s) but parts lists {}; expected one entry per value, left to right",
+                    "the network \"{}\" has {} resistor(s) but parts lists {}; expected one entry per value, left to right",
+                    crate::notation::excerpt(text),
                     members.len(),
                     parts.len()
                 ),
@@ -101,8 +102,9 @@ impl Reader<'_> {
                 return self.fail(
                     format!("{at}.ohms"),
                     format!(
-                        "{ohms} Ω is not the {} in the network \"{text}\"; expected the parts in the network's order",
-                        crate::notation::code(m.ohms)
+                        "{ohms} Ω is not the {} in the network \"{}\"; expected the parts in the network's order",
+                        crate::notation::code(m.ohms),
+                        crate::notation::excerpt(text)
                     ),
                 );
             }

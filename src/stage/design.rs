@@ -66,7 +66,7 @@ pub enum DesignError {
         message: String,
     },
     /// A key that biasfit does not know.
-    #[error("{file}:{line}: unknown key '{key}' in {table}{}; valid keys are {}", suggestion.as_ref().map(|s| format!(" (did you mean '{s}'?)")).unwrap_or_default(), valid.join(", "))]
+    #[error("{file}:{line}: unknown key '{}' in {table}{}; valid keys are {}", crate::notation::excerpt(.key), suggestion.as_ref().map(|s| format!(" (did you mean '{s}'?)")).unwrap_or_default(), valid.join(", "))]
     UnknownKey {
         /// The file.
         file: String,
@@ -96,7 +96,7 @@ pub enum DesignError {
         expected: String,
     },
     /// A value was refused.
-    #[error("{file}:{line}: {field} = {text}: {expected}")]
+    #[error("{file}:{line}: {field} = {}: {expected}", crate::notation::excerpt(.text))]
     Field {
         /// The file.
         file: String,

@@ -193,7 +193,10 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         let qty: u32 = parse_count(qty_text).ok_or_else(|| {
             field(
                 "qty",
-                format!("\"{qty_text}\" is not a quantity; expected a whole number of pieces, 0 or more"),
+                format!(
+                    "\"{}\" is not a quantity; expected a whole number of pieces, 0 or more",
+                    crate::notation::excerpt(qty_text)
+                ),
             )
         })?;
         let tolerance = match get("tolerance") {
@@ -228,7 +231,8 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
             field(
                 "qty",
                 format!(
-                    "\"{qty_text}\" brings this part's total past {}; expected at most that many pieces of one part in all",
+                    "\"{}\" brings this part's total past {}; expected at most that many pieces of one part in all",
+                    crate::notation::excerpt(qty_text),
                     u32::MAX
                 ),
             )
