@@ -6,7 +6,7 @@ use super::drawings::DrawingArgs;
 use super::flags::whole;
 use super::ideal::{stages, PartArgs};
 use super::output::write_atomic;
-use super::{Failure, Out};
+use super::{input, Failure, Out};
 use biasfit::report::html::{pick_list, SheetStage};
 use biasfit::report::result::read_result;
 use biasfit::report::spread::{render_spread, render_spread_svg, SpreadReport};
@@ -106,9 +106,10 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let chosen: Vec<&Stage> = picked.iter().map(|&i| &design.stages[i]).collect();
     let nets: Vec<SlotNetworks> = match &args.result {
         Some(path) => {
-            let text = std::fs::read_to_string(path).map_err(|e| {
+            let bytes = biasfit::input::read(path, "design result").map_err(input)?;
+            let text = String::from_utf8(bytes).map_err(|_| {
                 Failure::Input(format!(
-                    "{}: cannot read the design result: {e}",
+                    "{}: cannot read the design result: it is not UTF-8 text; expected what biasfit design --json wrote",
                     path.display()
                 ))
             })?;

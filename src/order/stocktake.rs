@@ -93,14 +93,9 @@ pub struct Shortage {
 /// Why a take or an add was refused; nothing was changed.
 #[derive(Debug, thiserror::Error)]
 pub enum TakeError {
-    /// The design result could not be read.
-    #[error("{file}: cannot read the design result: {source}")]
-    Io {
-        /// The file.
-        file: String,
-        /// The system's reason.
-        source: std::io::Error,
-    },
+    /// The design result could not be read, or is not a file biasfit reads.
+    #[error(transparent)]
+    Input(#[from] crate::input::InputError),
     /// The design result is not the JSON expected.
     #[error("{file}:{line}:{column}: {message}; expected the JSON that `biasfit design --json` writes, with \"copies\" and \"pick\"")]
     Json {
@@ -185,10 +180,7 @@ fn list(shortages: &[Shortage]) -> String {
 /// Reads a design result from disk.
 pub fn load_result(path: &Path) -> Result<DesignResult, TakeError> {
     let file = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|source| TakeError::Io {
-        file: file.clone(),
-        source,
-    })?;
+    let bytes = crate::input::read(path, "design result")?;
     parse_result(&file, &bytes)
 }
 

@@ -39,14 +39,9 @@ impl Design {
 /// Why a design file was refused.
 #[derive(Debug, thiserror::Error)]
 pub enum DesignError {
-    /// The file could not be read.
-    #[error("{file}: cannot read the design file: {source}")]
-    Io {
-        /// The file.
-        file: String,
-        /// The system's reason.
-        source: std::io::Error,
-    },
+    /// The file could not be read, or is not one biasfit reads (a device, a FIFO, too large).
+    #[error(transparent)]
+    Input(#[from] crate::input::InputError),
     /// The file is not UTF-8 text.
     #[error("{file}:{line}: the file is not UTF-8 text; save it as UTF-8")]
     NotUtf8 {
@@ -133,10 +128,7 @@ pub enum DesignError {
 /// Reads a design file from disk.
 pub fn load(path: &Path) -> Result<Design, DesignError> {
     let file = path.display().to_string();
-    let bytes = std::fs::read(path).map_err(|source| DesignError::Io {
-        file: file.clone(),
-        source,
-    })?;
+    let bytes = crate::input::read(path, "design file")?;
     let text = std::str::from_utf8(&bytes).map_err(|e| DesignError::NotUtf8 {
         line: bytes[..e.valid_up_to()]
             .iter()

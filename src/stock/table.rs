@@ -70,16 +70,9 @@ impl Schema {
 /// Why a CSV file was refused.
 #[derive(Debug, thiserror::Error)]
 pub enum CsvError {
-    /// The file could not be read.
-    #[error("{file}: cannot read the {kind}: {source}")]
-    Io {
-        /// The file.
-        file: String,
-        /// What the file is.
-        kind: &'static str,
-        /// The system's reason.
-        source: std::io::Error,
-    },
+    /// The file could not be read, or is not one biasfit reads (a device, a FIFO, too large).
+    #[error(transparent)]
+    Input(#[from] crate::input::InputError),
     /// The file is not UTF-8 text.
     #[error("{file}:{line}: the file is not UTF-8 text (byte {byte}); save it as UTF-8 CSV")]
     NotUtf8 {
@@ -267,11 +260,7 @@ pub struct Table {
 
 /// Reads a file's bytes, naming the file and its kind if that fails.
 pub fn read_bytes(path: &Path, kind: &'static str) -> Result<Vec<u8>, CsvError> {
-    std::fs::read(path).map_err(|source| CsvError::Io {
-        file: path.display().to_string(),
-        kind,
-        source,
-    })
+    Ok(crate::input::read(path, kind)?)
 }
 
 /// The lines of a text: (byte offset of the line, its text without the line end, the line end if any).
