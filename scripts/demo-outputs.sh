@@ -16,7 +16,7 @@ run() { # name, args...: stdout, stderr and the exit code, elapsed times masked
   local name=$1; shift
   "$bin" "$@" >"$out/$name.out" 2>"$out/$name.err"
   echo "exit $?" >>"$out/$name.out"
-  sed -i -E 's/[0-9]+(\.[0-9]+)? s([,)]| |$)/T s\2/g; s/"seconds": ?[0-9.e+-]+/"seconds":T/g' "$out/$name.out" "$out/$name.err"
+  sed -i -E "s#$out#OUT#g" "$out/$name.out" "$out/$name.err"; sed -i -E 's/[0-9]+(\.[0-9]+)? s([,)]| |$)/T s\2/g; s/"seconds": ?[0-9.e+-]+/"seconds":T/g' "$out/$name.out" "$out/$name.err"
   n=$((n + 1))
 }
 for f in examples/*.toml tests/fixtures/designs/*.toml; do

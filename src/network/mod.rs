@@ -7,7 +7,6 @@
 //! `fix` report.
 
 pub mod candidates;
-pub mod fix;
 
 use crate::notation::value::code;
 use crate::units::{Amps, Ohms, Tolerance, Volts, Watts};
