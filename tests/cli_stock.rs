@@ -79,3 +79,35 @@ fn a_missing_file_is_an_input_error() {
     assert_eq!(out.status.code(), Some(2));
     assert!(stderr(&out).starts_with("error: no/such/file.csv: cannot read the stock file"));
 }
+
+#[test]
+fn control_characters_from_a_file_are_shown_not_obeyed() {
+    // Issue 18: an OSC sequence in a bin location once set the terminal's title.
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("escapes");
+    std::fs::create_dir_all(&dir).unwrap();
+    let path = dir.join("esc.csv");
+    std::fs::write(
+        &path,
+        "value,qty,tolerance,power,location\n4k7,3,5%,0.25W,\u{1b}]0;owned\u{7}\n",
+    )
+    .unwrap();
+    for json in [false, true] {
+        let mut args = vec!["fix", "4k7", "--stock", path.to_str().unwrap()];
+        if json {
+            args.push("--json");
+        }
+        let out = biasfit(&args);
+        assert!(out.status.success(), "{}", stderr(&out));
+        let text = stdout(&out);
+        assert!(
+            !text.contains('\u{1b}') && !text.contains('\u{7}'),
+            "{text}"
+        );
+        let shown = if json {
+            "\\u001b]0;owned\\u0007"
+        } else {
+            "\\u{1b}]0;owned\\u{7}"
+        };
+        assert!(text.contains(shown), "{text}");
+    }
+}
