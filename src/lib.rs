@@ -22,6 +22,7 @@
 #![forbid(unsafe_code)]
 
 pub mod bench;
+pub mod circuit;
 pub mod network;
 pub mod notation;
 pub mod optimise;
