@@ -50,10 +50,15 @@ pub(crate) struct Stamp<'a> {
     /// The sum of the magnitudes of every current written into each row: what a node's residual is
     /// measured against.
     pub scale: &'a mut [f64],
+    /// The rounding floor of each row's residual: the currents' uncertainty from node voltages held in
+    /// doubles.
+    pub floor: &'a mut [f64],
     /// The Jacobian, `n × n`, row-major.
     pub jac: &'a mut [f64],
     /// The number of unknowns.
     pub n: usize,
+    /// The largest rail's magnitude (at least 1 V): the scale of a solve's rounding in node voltages.
+    pub volts_scale: f64,
 }
 
 impl Stamp<'_> {
@@ -102,6 +107,16 @@ impl Stamp<'_> {
     pub fn branch(&mut self, a: usize, b: usize, i: f64, g: f64) {
         self.leave(a, i);
         self.leave(b, -i);
+        // The current is only defined to g·ε·|V| by node voltages held in doubles (and a solve's rounding
+        // reaches every node at the scale of the largest rail): its rounding floor.
+        let floor =
+            g.abs() * f64::EPSILON * (self.v(a).abs() + self.v(b).abs() + self.volts_scale);
+        for node in [a, b] {
+            let k = self.at.var[node];
+            if k != FIXED {
+                self.floor[k] += floor;
+            }
+        }
         self.d(a, a, g);
         self.d(a, b, -g);
         self.d(b, a, -g);
@@ -113,6 +128,8 @@ impl Stamp<'_> {
     pub fn eq(&mut self, e: usize, value: f64) {
         self.f[e] += value;
         self.scale[e] += value.abs();
+        // A constraint between node voltages is only met to the rounding of those voltages.
+        self.floor[e] += 4.0 * f64::EPSILON * self.volts_scale;
     }
 
     /// ∂(extra equation `e`)/∂V(`col`).

@@ -90,7 +90,10 @@ pub struct Solution {
     /// Every part's state, in [`Circuit::parts`] order.
     pub parts: Vec<PartState>,
     /// The Kirchhoff current-law residual at every node, relative to the sum of the magnitudes of the
-    /// currents meeting there (0 at rails and ground, which are sources).
+    /// currents meeting there (0 at rails and ground, which are sources). A resistor's or diode's current
+    /// residual no larger than its rounding floor (the sum of g·ε·(|Va| + |Vb| + the largest rail) over the
+    /// resistors and junctions there) counts as zero: node voltages held in doubles cannot set a nanoampere through 20 Ω
+    /// from 1.4 V any closer than that.
     pub residuals: Vec<f64>,
     /// A second operating point, when one was looked for and found.
     pub latch: Option<Latch>,
@@ -155,6 +158,8 @@ pub struct Solver<'c> {
     dx: Vec<f64>,
     f: Vec<f64>,
     scale: Vec<f64>,
+    floor: Vec<f64>,
+    volts_scale: f64,
     jac: Vec<f64>,
     lu: LuScratch,
     piecewise: Vec<usize>,
@@ -208,6 +213,7 @@ impl<'c> Solver<'c> {
             .iter()
             .map(|p| p.kind.regions().first().copied())
             .collect();
+        let fixed_scale = fixed.iter().fold(1.0_f64, |m, v| m.max(v.abs()));
         Solver {
             circuit,
             var,
@@ -221,6 +227,8 @@ impl<'c> Solver<'c> {
             dx: vec![0.0; n],
             f: vec![0.0; n],
             scale: vec![0.0; n],
+            floor: vec![0.0; n],
+            volts_scale: fixed_scale,
             jac: vec![0.0; n * n],
             lu: LuScratch::default(),
             piecewise,
@@ -251,6 +259,7 @@ impl<'c> Solver<'c> {
         }
         self.f.iter_mut().for_each(|v| *v = 0.0);
         self.scale.iter_mut().for_each(|v| *v = 0.0);
+        self.floor.iter_mut().for_each(|v| *v = 0.0);
         self.jac.iter_mut().for_each(|v| *v = 0.0);
         let mut st = Stamp {
             at: View {
@@ -261,8 +270,10 @@ impl<'c> Solver<'c> {
             lambda,
             f: &mut self.f,
             scale: &mut self.scale,
+            floor: &mut self.floor,
             jac: &mut self.jac,
             n: self.n,
+            volts_scale: self.volts_scale,
         };
         for (i, (part, el)) in self.circuit.parts.iter().zip(&build.elements).enumerate() {
             let pins = &part.pins;
@@ -293,7 +304,8 @@ impl<'c> Solver<'c> {
         self.f
             .iter()
             .zip(&self.scale)
-            .all(|(f, s)| f.is_finite() && f.abs() <= 1e-13 * s + 1e-300)
+            .zip(&self.floor)
+            .all(|((f, s), fl)| f.is_finite() && f.abs() <= 1e-13 * s + fl + 1e-300)
     }
 
     /// Newton's method from `self.x` on one assignment at one homotopy point.
@@ -733,7 +745,7 @@ impl<'c> Solver<'c> {
             .var
             .iter()
             .map(|&k| {
-                if k == FIXED || self.scale[k] == 0.0 {
+                if k == FIXED || self.scale[k] == 0.0 || self.f[k].abs() <= self.floor[k] {
                     0.0
                 } else {
                     self.f[k].abs() / self.scale[k]
