@@ -126,7 +126,14 @@ fn compare(c: &Case) -> Result<Region, String> {
         .solve(&build, &Options::default())
         .map_err(|e| e.to_string())?;
     if sol.worst_residual() > 1e-9 {
-        return Err(format!("KCL residual {:e} {:?} {:?} {:?} {:?}", sol.worst_residual(), sol.residuals, circuit.nodes, sol.nodes, sol.parts));
+        return Err(format!(
+            "KCL residual {:e} {:?} {:?} {:?} {:?}",
+            sol.worst_residual(),
+            sol.residuals,
+            circuit.nodes,
+            sol.nodes,
+            sol.parts
+        ));
     }
     let q = circuit.find_part("Q1").unwrap();
     let p = &sol.parts[q];
@@ -136,17 +143,30 @@ fn compare(c: &Case) -> Result<Region, String> {
         _ => Region::Cutoff,
     };
     if region != op.region {
-        return Err(format!("region: engine {region}, closed form {}", op.region));
+        return Err(format!(
+            "region: engine {region}, closed form {}",
+            op.region
+        ));
     }
-    let s = if st.polarity == Polarity::Npn { 1.0 } else { -1.0 };
+    let s = if st.polarity == Polarity::Npn {
+        1.0
+    } else {
+        -1.0
+    };
     let close_i = |a: f64, b: f64| (a - b).abs() <= 1e-9 * a.abs().max(b.abs()) + 1e-18;
     let span = st.supply_span().0;
     let close_v = |a: f64, b: f64| (a - b).abs() <= 1e-9 * span.max(a.abs()).max(b.abs());
     if !close_i(p.current.0, op.ic.0) {
-        return Err(format!("IC: engine {:e}, closed form {:e}", p.current.0, op.ic.0));
+        return Err(format!(
+            "IC: engine {:e}, closed form {:e}",
+            p.current.0, op.ic.0
+        ));
     }
     if !close_i(p.base_current.0, op.ib.0) {
-        return Err(format!("IB: engine {:e}, closed form {:e}", p.base_current.0, op.ib.0));
+        return Err(format!(
+            "IB: engine {:e}, closed form {:e}",
+            p.base_current.0, op.ib.0
+        ));
     }
     let node = |n: &str| circuit.find_node(n).map_or(0.0, |i| sol.nodes[i].0);
     for (name, engine, closed) in [

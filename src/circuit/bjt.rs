@@ -67,7 +67,13 @@ impl Bjt {
     }
 
     /// (IB, IC) in the device frame, in a region; `ex` is the first of the two extra unknowns.
-    pub(crate) fn currents(&self, region: Region, pins: &[usize], ex: usize, at: &View) -> (f64, f64) {
+    pub(crate) fn currents(
+        &self,
+        region: Region,
+        pins: &[usize],
+        ex: usize,
+        at: &View,
+    ) -> (f64, f64) {
         let (vbe, _) = self.voltages(pins, at);
         match (region, self.law) {
             (Region::Active, Law::Fixed { .. }) => {

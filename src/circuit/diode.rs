@@ -38,8 +38,7 @@ impl Diode {
 
     /// The junction limit on a Newton step (see [`super::bjt`]).
     pub(crate) fn step_limit(&self, a: usize, k: usize, old: &View, new: &View) -> f64 {
-        let vcrit = self.volts
-            + self.nvt * (self.nvt / (std::f64::consts::SQRT_2 * self.at)).ln();
+        let vcrit = self.volts + self.nvt * (self.nvt / (std::f64::consts::SQRT_2 * self.at)).ln();
         junction_limit(old.v(a) - old.v(k), new.v(a) - new.v(k), self.nvt, vcrit)
     }
 }

@@ -109,8 +109,7 @@ impl Stamp<'_> {
         self.leave(b, -i);
         // The current is only defined to g·ε·|V| by node voltages held in doubles (and a solve's rounding
         // reaches every node at the scale of the largest rail): its rounding floor.
-        let floor =
-            g.abs() * f64::EPSILON * (self.v(a).abs() + self.v(b).abs() + self.volts_scale);
+        let floor = g.abs() * f64::EPSILON * (self.v(a).abs() + self.v(b).abs() + self.volts_scale);
         for node in [a, b] {
             let k = self.at.var[node];
             if k != FIXED {
@@ -229,7 +228,10 @@ mod tests {
         let mut a = vec![2.0, 1.0, 1.0, 3.0];
         let mut b = vec![5.0, 10.0];
         lu_solve(&mut a, &mut b, 2, &mut LuScratch::default());
-        assert!((b[0] - 1.0).abs() < 1e-15 && (b[1] - 3.0).abs() < 1e-15, "{b:?}");
+        assert!(
+            (b[0] - 1.0).abs() < 1e-15 && (b[1] - 3.0).abs() < 1e-15,
+            "{b:?}"
+        );
     }
 
     #[test]

@@ -401,7 +401,13 @@ impl<'c> Solver<'c> {
             .enumerate()
             .filter(|(_, p)| on_node(p))
             .find(|(_, p)| !p.kind.regions().is_empty() || matches!(p.kind, Kind::Diode { .. }))
-            .or_else(|| self.circuit.parts.iter().enumerate().find(|(_, p)| on_node(p)))
+            .or_else(|| {
+                self.circuit
+                    .parts
+                    .iter()
+                    .enumerate()
+                    .find(|(_, p)| on_node(p))
+            })
             .map_or(0, |(i, _)| i)
     }
 
@@ -775,11 +781,9 @@ impl<'c> Solver<'c> {
                     s
                 }
                 Element::Current(a) => two_terminal(*a, a * two(&at), two(&at)),
-                Element::Reference(rf) => two_terminal(
-                    rf.current(ex, &at),
-                    rf.power(pins, ex, &at),
-                    two(&at),
-                ),
+                Element::Reference(rf) => {
+                    two_terminal(rf.current(ex, &at), rf.power(pins, ex, &at), two(&at))
+                }
                 Element::OpAmp(o) => {
                     let (i, p) = o.current_power(pins, ex, &at);
                     let mut s = two_terminal(i, p, at.v(pins[0]) - at.v(pins[1]));
