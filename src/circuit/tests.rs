@@ -106,3 +106,41 @@ fn saturates_and_cuts_off() {
     assert_eq!(s.parts[2].region, Some(Region::Cutoff));
     assert_eq!(s.parts[2].current.0, 0.0);
 }
+
+#[test]
+fn a_cross_coupled_pair_latches() {
+    // An NPN and a PNP each feeding the other's base (the thyristor's structure): both off and both on are
+    // operating points, and the solver says so.
+    let mut c = Circuit::new("latch");
+    c.rail("vcc", Volts(5.0)).unwrap();
+    c.add("R1", resistor(10e3), &["vcc", "x"]).unwrap();
+    c.add("R2", resistor(10e3), &["y", "gnd"]).unwrap();
+    c.add(
+        "Q1",
+        Kind::Bjt {
+            polarity: Polarity::Npn,
+            transistor: transistor(Vbe::Fixed(Volts(0.6))),
+        },
+        &["x", "y", "gnd"],
+    )
+    .unwrap();
+    c.add(
+        "Q2",
+        Kind::Bjt {
+            polarity: Polarity::Pnp,
+            transistor: transistor(Vbe::Fixed(Volts(0.6))),
+        },
+        &["y", "x", "vcc"],
+    )
+    .unwrap();
+    c.check().unwrap();
+    let s = solve(&c, &c.typical(&[]).unwrap()).unwrap();
+    let latch = s.latch.expect("a latch");
+    assert!(latch.points >= 2, "{latch:?}");
+    assert!(latch.parts.contains(&"Q1".to_string()), "{latch:?}");
+    // Without the search only one point is reported.
+    let quick = Solver::new(&c)
+        .solve(&c.typical(&[]).unwrap(), &Options { check_latch: false })
+        .unwrap();
+    assert!(quick.latch.is_none() && !quick.latch_checked);
+}
