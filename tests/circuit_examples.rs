@@ -18,7 +18,11 @@ fn solve(c: &Circuit, slots: &[f64]) -> Solution {
     let slots: Vec<Ohms> = slots.iter().map(|&r| Ohms(r)).collect();
     let b = c.typical(&slots).unwrap();
     let s = Solver::new(c).solve(&b, &Options::default()).unwrap();
-    assert!(s.worst_residual() < 1e-9, "KCL residual {:e}", s.worst_residual());
+    assert!(
+        s.worst_residual() < 1e-9,
+        "KCL residual {:e}",
+        s.worst_residual()
+    );
     // The checks and the error run on every example.
     let ratings = vec![None; slots.len()];
     c.checks(&slots, &ratings, &Options::default()).unwrap();
@@ -61,7 +65,11 @@ fn regulator_feedback_follows_the_adjustable_regulator_equation() {
     let c = example("regulator-feedback.toml");
     let s = solve(&c, &[240.0, 1500.0]);
     let want = 1.25 * (1.0 + 1500.0 / 240.0) + 50e-6 * 1500.0;
-    assert!((v(&c, &s, "out") - want).abs() < 1e-12, "{}", v(&c, &s, "out"));
+    assert!(
+        (v(&c, &s, "out") - want).abs() < 1e-12,
+        "{}",
+        v(&c, &s, "out")
+    );
     assert!((want - 9.1375).abs() < 1e-12);
 }
 
@@ -74,7 +82,11 @@ fn gain_pair_follows_the_feedback_formula() {
     let s = solve(&c, &[rf, rg]);
     let (a, beta) = (200_000.0, rg / (rg + rf));
     let want = 0.5 * a / (1.0 + a * beta);
-    assert!((v(&c, &s, "out") - want).abs() < 1e-9, "{} vs {want}", v(&c, &s, "out"));
+    assert!(
+        (v(&c, &s, "out") - want).abs() < 1e-9,
+        "{} vs {want}",
+        v(&c, &s, "out")
+    );
     assert_eq!(part(&c, &s, "U1").region, Some(Region::Linear));
     // Asked for more than the supply allows, the output stops at its headroom below the 5 V rail.
     let s = solve(&c, &[200_000.0, 1000.0]);
@@ -111,7 +123,11 @@ fn mosfet_divider_solves_the_square_law() {
     let u = (-1.0 + (1.0 + 4.0 * a * (vg - vt)).sqrt()) / (2.0 * a);
     let id = 0.5 * k * u * u;
     let m = part(&c, &s, "M1");
-    assert!((m.current.0 / id - 1.0).abs() < 1e-10, "{} vs {id}", m.current.0);
+    assert!(
+        (m.current.0 / id - 1.0).abs() < 1e-10,
+        "{} vs {id}",
+        m.current.0
+    );
     assert_eq!(m.region, Some(Region::FetSaturation));
 }
 
@@ -178,7 +194,11 @@ fn zener_current_source_follows_the_zener_and_emitter_loop() {
     assert!((vz - (4.6 + 20.0 * iz)).abs() < 1e-12);
     let beta = 220.0;
     let want = beta / (beta + 1.0) * (vz - 0.62) / 1800.0;
-    assert!((q.current.0 / want - 1.0).abs() < 1e-12, "{} vs {want}", q.current.0);
+    assert!(
+        (q.current.0 / want - 1.0).abs() < 1e-12,
+        "{} vs {want}",
+        q.current.0
+    );
     assert_eq!(part(&c, &s, "DZ").region, Some(Region::Breakdown));
     assert_eq!(q.region, Some(Region::Active));
 }
@@ -196,5 +216,8 @@ fn tail_pair_is_symmetric_and_obeys_kirchhoff() {
     assert!((tail / ie - 1.0).abs() < 1e-12);
     // Two transistors: the latch search ran and found one operating point.
     assert!(s.latch_checked && s.latch.is_none());
-    assert!(matches!(c.parts[c.find_part("Q1").unwrap()].kind, Kind::Bjt { .. }));
+    assert!(matches!(
+        c.parts[c.find_part("Q1").unwrap()].kind,
+        Kind::Bjt { .. }
+    ));
 }

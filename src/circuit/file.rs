@@ -1495,12 +1495,19 @@ mod tests {
     #[test]
     fn lines_come_from_the_line_start_table() {
         let l = Lines::of("a\nbb\n\nccc");
-        assert_eq!([l.line(0), l.line(1), l.line(2), l.line(5), l.line(6)], [1, 1, 2, 3, 4]);
+        assert_eq!(
+            [l.line(0), l.line(1), l.line(2), l.line(5), l.line(6)],
+            [1, 1, 2, 3, 4]
+        );
     }
 
     #[test]
     fn a_good_divider_reads() {
-        let text = format!("{HEAD}{}{}[[circuit.target]]\nnode = \"mid\"\nvolts = 6\n", resistor("R1", "vcc", "mid"), resistor("R2", "mid", "gnd"));
+        let text = format!(
+            "{HEAD}{}{}[[circuit.target]]\nnode = \"mid\"\nvolts = 6\n",
+            resistor("R1", "vcc", "mid"),
+            resistor("R2", "mid", "gnd")
+        );
         let c = parse("t.toml", &text).unwrap().remove(0);
         assert_eq!(c.parts.len(), 2);
         assert_eq!(c.targets.len(), 1);
@@ -1510,41 +1517,72 @@ mod tests {
     #[test]
     fn unknown_node_names_the_nearest() {
         // "mld" joins one pin only: a slip for "mid".
-        let e = refusal(&format!("{}{}{}", resistor("R1", "vcc", "mid"), resistor("R2", "mid", "gnd"), resistor("R3", "mld", "gnd")));
-        assert!(e.starts_with("t.toml:15:") && e.contains("'mld'") && e.contains("did you mean 'mid'"), "{e}");
+        let e = refusal(&format!(
+            "{}{}{}",
+            resistor("R1", "vcc", "mid"),
+            resistor("R2", "mid", "gnd"),
+            resistor("R3", "mld", "gnd")
+        ));
+        assert!(
+            e.starts_with("t.toml:15:") && e.contains("'mld'") && e.contains("did you mean 'mid'"),
+            "{e}"
+        );
     }
 
     #[test]
     fn missing_pin() {
         let e = refusal("[[circuit.part]]\nname = \"Q1\"\nkind = \"npn\"\ncollector = \"vcc\"\nbase = \"vcc\"\nbeta = 100\n");
-        assert!(e.starts_with("t.toml:5:") && e.contains("no 'emitter'"), "{e}");
+        assert!(
+            e.starts_with("t.toml:5:") && e.contains("no 'emitter'"),
+            "{e}"
+        );
     }
 
     #[test]
     fn floating_node() {
-        let e = refusal(&format!("{}{}{}", resistor("R1", "vcc", "gnd"), resistor("R2", "x", "y"), resistor("R3", "y", "x")));
+        let e = refusal(&format!(
+            "{}{}{}",
+            resistor("R1", "vcc", "gnd"),
+            resistor("R2", "x", "y"),
+            resistor("R3", "y", "x")
+        ));
         assert!(e.starts_with("t.toml:10:") && e.contains("floats"), "{e}");
     }
 
     #[test]
     fn rail_named_twice() {
         let e = refusal(&format!("vcc = 5\n{}", resistor("R1", "vcc", "gnd")));
-        assert!(e.starts_with("t.toml:5:") && e.contains("rail 'vcc' is named twice"), "{e}");
+        assert!(
+            e.starts_with("t.toml:5:") && e.contains("rail 'vcc' is named twice"),
+            "{e}"
+        );
         let e = refusal(&format!("gnd = 5\n{}", resistor("R1", "vcc", "gnd")));
         assert!(e.contains("'gnd' is the 0 V node"), "{e}");
     }
 
     #[test]
     fn target_on_a_missing_node() {
-        let e = refusal(&format!("{}{}[[circuit.target]]\nnode = \"out\"\nvolts = 6\n", resistor("R1", "vcc", "mid"), resistor("R2", "mid", "gnd")));
-        assert!(e.starts_with("t.toml:16:") && e.contains("no node 'out'") && e.contains("mid"), "{e}");
+        let e = refusal(&format!(
+            "{}{}[[circuit.target]]\nnode = \"out\"\nvolts = 6\n",
+            resistor("R1", "vcc", "mid"),
+            resistor("R2", "mid", "gnd")
+        ));
+        assert!(
+            e.starts_with("t.toml:16:") && e.contains("no node 'out'") && e.contains("mid"),
+            "{e}"
+        );
     }
 
     #[test]
     fn unknown_key_and_kind_get_hints() {
         let e = refusal("[[circuit.part]]\nname = \"R1\"\nkind = \"resistor\"\nvalu = \"1k\"\nbetween = [\"vcc\", \"gnd\"]\n");
-        assert!(e.starts_with("t.toml:8:") && e.contains("did you mean 'value'"), "{e}");
-        let e = refusal("[[circuit.part]]\nname = \"R1\"\nkind = \"resistr\"\nbetween = [\"vcc\", \"gnd\"]\n");
+        assert!(
+            e.starts_with("t.toml:8:") && e.contains("did you mean 'value'"),
+            "{e}"
+        );
+        let e = refusal(
+            "[[circuit.part]]\nname = \"R1\"\nkind = \"resistr\"\nbetween = [\"vcc\", \"gnd\"]\n",
+        );
         assert!(e.contains("did you mean resistor"), "{e}");
         // A key of another kind is refused with this kind's keys.
         let e = refusal("[[circuit.part]]\nname = \"R1\"\nkind = \"resistor\"\nbeta = 100\nbetween = [\"vcc\", \"gnd\"]\n");
@@ -1569,6 +1607,12 @@ mod tests {
             }
         }
         let e = found.expect("some ambient has no operating point");
-        assert!(e.starts_with("t.toml:1:") && e.contains("no operating point") && e.contains("Q1") && !e.contains('\n'), "{e}");
+        assert!(
+            e.starts_with("t.toml:1:")
+                && e.contains("no operating point")
+                && e.contains("Q1")
+                && !e.contains('\n'),
+            "{e}"
+        );
     }
 }
