@@ -9,8 +9,8 @@
 //! Run with `cargo run --release --example fix_bench`.
 
 use biasfit::network::candidates::{best, Index};
-use biasfit::network::fix::error_text;
 use biasfit::notation::{code, Series};
+use biasfit::report::fix::error_text;
 use biasfit::stock::{Part, Stock};
 use biasfit::units::{Ohms, Tolerance, Watts};
 use std::hint::black_box;

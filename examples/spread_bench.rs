@@ -6,7 +6,7 @@
 //! Every figure is measured in this run; the ratios compare two measurements of this run, or a measurement
 //! with the target.
 
-use biasfit::notation::parse_network;
+use biasfit::network::parse_network;
 use biasfit::spread::{monte_carlo, worst_case, worst_error, Dist};
 use biasfit::stage::{self, SlotNetworks, Stage};
 use biasfit::{Celsius, Tolerance, Watts};

@@ -3,10 +3,10 @@
 //! The library holds all the engineering and never prints, parses flags or exits; the `biasfit` binary is a
 //! thin shell over it. Data flows one way: validated input ([`stock`], [`notation`]) → candidate networks
 //! ([`network`]) → the selection → the exact operating point and checks → the spread → a report.
-
 //!
 //! ```
-//! use biasfit::notation::{code, parse_network, parse_ohms};
+//! use biasfit::notation::{code, parse_ohms};
+//! use biasfit::network::parse_network;
 //! use biasfit::{Tolerance, Watts};
 //!
 //! // The IEC 60062 letter code reads and prints the way the trade writes values.
@@ -23,6 +23,7 @@
 
 pub mod bench;
 pub mod circuit;
+pub mod fix;
 pub mod network;
 pub mod notation;
 pub mod optimise;

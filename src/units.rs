@@ -2,10 +2,10 @@
 //!
 //! Every value that crosses a module boundary carries its unit in its type; bare `f64`s exist only inside a
 //! formula. The arithmetic that the trade uses (Ohm's law, P = V·I) is implemented between the types, so that
-//! `Volts / Ohms` gives `Amps` and a mix-up does not compile. All values are in SI base units.
+//! `Volts / Ohms` gives `Amps` and a mix-up does not compile. All values are in SI base units. This module
+//! depends on nothing else in the crate; how the quantities are printed (`Display`) lives in `notation`.
 
 use serde::{Deserialize, Serialize};
-use std::fmt;
 use std::ops::{Add, Div, Mul, Neg, Sub};
 
 macro_rules! quantity {
@@ -16,6 +16,9 @@ macro_rules! quantity {
         pub struct $name(pub f64);
 
         impl $name {
+            /// The unit's symbol, for printing (the printing itself lives in `notation`).
+            pub const SYMBOL: &'static str = $symbol;
+
             /// The value in SI base units.
             pub fn get(self) -> f64 {
                 self.0
@@ -75,11 +78,6 @@ macro_rules! quantity {
             type Output = f64;
             fn div(self, rhs: Self) -> f64 {
                 self.0 / rhs.0
-            }
-        }
-        impl fmt::Display for $name {
-            fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-                write!(f, "{}", crate::notation::engineering(self.0, $symbol))
             }
         }
     };
@@ -183,12 +181,9 @@ impl Tolerance {
     }
 }
 
-impl fmt::Display for Tolerance {
-    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
-        let p = self.percent();
-        write!(f, "{} %", crate::notation::trim_number(p, 3))
-    }
-}
+/// Supplies at or above this are beyond safe extra-low voltage (50 V DC, the limit the project's brief
+/// sets), and every report that sees one prints a caution. The one place the threshold is written.
+pub const SAFE_EXTRA_LOW_VOLTAGE: Volts = Volts(50.0);
 
 /// The thermal voltage kT/q at a temperature.
 ///

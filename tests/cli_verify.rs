@@ -6,7 +6,8 @@
 mod common;
 use biasfit::bench::faults::{catalogue, simulate};
 use biasfit::bench::Fault;
-use biasfit::notation::{parse_network, value::round_sig};
+use biasfit::network::parse_network;
+use biasfit::notation::value::round_sig;
 use biasfit::stage::{self, Slot, SlotNetworks, Stage};
 use biasfit::units::{Tolerance, Watts};
 use common::*;

@@ -233,9 +233,8 @@ fn keep_never_changes_a_kept_slot() {
     let mut rng = Rng(5);
     let stock = random_stock(&d, &mut rng, 6);
     let ideal = d.stages[0].ideal().unwrap();
-    let kept_rc =
-        biasfit::notation::parse_network("3k3+470", Tolerance(0.05), Watts(0.25)).unwrap();
-    let kept_r2 = biasfit::notation::parse_network(
+    let kept_rc = biasfit::network::parse_network("3k3+470", Tolerance(0.05), Watts(0.25)).unwrap();
+    let kept_r2 = biasfit::network::parse_network(
         &biasfit::notation::code(
             biasfit::notation::Series::E12.nearest(ideal.values.get(Slot::R2).unwrap()),
         ),

@@ -5,11 +5,11 @@
 //! is what CI runs on every commit; `bash fuzz/run` runs the same parsers under cargo-fuzz for longer.
 
 use biasfit::bench::Measured;
+use biasfit::network::parse_network;
 use biasfit::network::{Member, Network};
 use biasfit::notation::value::{MAX_OHMS, MIN_OHMS};
 use biasfit::notation::{
-    parse_amps, parse_network, parse_ohms, parse_power, parse_tolerance, parse_volts, parse_watts,
-    Series,
+    parse_amps, parse_ohms, parse_power, parse_tolerance, parse_volts, parse_watts, Series,
 };
 use biasfit::order::catalogue::Catalogue;
 use biasfit::order::orderfile;

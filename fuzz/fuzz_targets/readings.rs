@@ -15,7 +15,7 @@ fuzz_target!(|data: &[u8]| {
     for item in text.split(',') {
         let (name, value) = item.split_once('=').unwrap_or((item, ""));
         let _ = name.trim().parse::<Slot>();
-        if let Ok(n) = biasfit::notation::parse_network(value, Tolerance(0.01), Watts(0.25)) {
+        if let Ok(n) = biasfit::network::parse_network(value, Tolerance(0.01), Watts(0.25)) {
             assert!(n.ohms().0 > 0.0 && n.ohms().0.is_finite());
         }
     }

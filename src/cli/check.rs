@@ -4,7 +4,7 @@
 use super::drawings::DrawingArgs;
 use super::ideal::{stages, PartArgs};
 use super::{Failure, Out};
-use biasfit::notation::parse_network;
+use biasfit::network::parse_network;
 use biasfit::report::html::{pick_list, SheetStage};
 use biasfit::report::{table, Report, StageReport};
 use biasfit::stage::{Slot, SlotNetworks, Stage};

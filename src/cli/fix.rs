@@ -4,7 +4,7 @@
 use super::flags::whole;
 use super::stock::{load, DefaultArgs};
 use super::{Failure, Out};
-use biasfit::network::fix::{FixReport, Load, Request};
+use biasfit::fix::{FixReport, Load, Request};
 use biasfit::notation::{engineering, parse_amps, parse_ohms, parse_power, parse_volts};
 use biasfit::units::{Amps, Volts};
 use clap::Args;
@@ -128,7 +128,7 @@ pub fn run(args: FixArgs, out: &mut Out) -> Result<(), Failure> {
     if args.json {
         out.json(&report)?;
     } else {
-        out.text(&report.render(out.colour()))?;
+        out.text(&biasfit::report::fix::render(&report, out.colour()))?;
     }
     if report.power_failed() {
         return Err(Failure::ChecksFailed);

@@ -7,9 +7,10 @@
 //! `fix` report.
 
 pub mod candidates;
-pub mod fix;
+pub mod notation;
 
-use crate::notation::value::code;
+pub use notation::{parse_network, NetworkError};
+
 use crate::units::{Amps, Ohms, Tolerance, Volts, Watts};
 use serde::Serialize;
 
@@ -143,46 +144,6 @@ impl Network {
     /// Each member's dissipation with `voltage` across the whole network.
     pub fn member_powers_at_voltage(&self, voltage: Volts) -> Vec<Watts> {
         self.member_powers(voltage / self.ohms())
-    }
-
-    /// The network in the `--use` notation: `a+b` is series, `a|b` parallel, parentheses where needed.
-    pub fn notation(&self) -> String {
-        self.notation_in(None)
-    }
-
-    fn notation_in(&self, parent: Option<bool>) -> String {
-        match self {
-            Network::Single(m) => code(m.ohms),
-            Network::Series(parts) | Network::Parallel(parts) => {
-                let series = matches!(self, Network::Series(_));
-                let joined = parts
-                    .iter()
-                    .map(|p| p.notation_in(Some(series)))
-                    .collect::<Vec<_>>()
-                    .join(if series { "+" } else { "|" });
-                // '|' binds tighter than '+', so only a series inside a parallel needs brackets; we also
-                // bracket a parallel inside a series, since people read a+(b|c) faster than a+b|c.
-                if parent.is_some() && parts.len() > 1 {
-                    format!("({joined})")
-                } else {
-                    joined
-                }
-            }
-        }
-    }
-
-    /// How to connect it, in words, for a build sheet.
-    pub fn wiring(&self) -> String {
-        match self {
-            Network::Single(m) => format!("one {}", code(m.ohms)),
-            Network::Series(parts) if parts.iter().all(|p| matches!(p, Network::Single(_))) => {
-                format!("{} in series", parts.len())
-            }
-            Network::Parallel(parts) if parts.iter().all(|p| matches!(p, Network::Single(_))) => {
-                format!("{} in parallel", parts.len())
-            }
-            _ => format!("as drawn: {}", self.notation()),
-        }
     }
 }
 

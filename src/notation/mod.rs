@@ -1,15 +1,14 @@
 //! How values are written and read: resistances in the IEC 60062 letter code, other quantities with SI
-//! prefixes, IEC 60063 preferred-number series, and the series/parallel network notation.
+//! prefixes, and IEC 60063 preferred-number series (the network notation, a+b and a|b, lives with the network
+//! it describes, in `network::notation`).
 //!
 //! Everything here is pure text-to-value conversion; it knows nothing of stock or circuits.
 
 pub mod eseries;
-pub mod network;
 pub mod quantity;
 pub mod value;
 
 pub use eseries::Series;
-pub use network::{parse_network, NetworkError};
 pub use quantity::{
     engineering, parse_amps, parse_power, parse_tolerance, parse_volts, parse_watts, trim_number,
     QuantityError,

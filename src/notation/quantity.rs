@@ -1,7 +1,27 @@
 //! Voltages, currents, powers and tolerances as people write them ("12V", "2mA", "1/4W", "250mW", "5%", "J"),
 //! and engineering notation for printing any quantity ("2.45 mA", "350 mW").
 
-use crate::units::{Amps, Tolerance, Volts, Watts};
+use crate::units::{Amps, Celsius, Ohms, Tolerance, Volts, Watts};
+use std::fmt;
+
+/// Every quantity prints in engineering notation with its unit's symbol ("2.45 mA").
+macro_rules! display_engineering {
+    ($($name:ident),*) => {$(
+        impl fmt::Display for $name {
+            fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+                f.write_str(&engineering(self.0, $name::SYMBOL))
+            }
+        }
+    )*};
+}
+display_engineering!(Ohms, Volts, Amps, Watts, Celsius);
+
+/// A tolerance prints as a percentage to three significant digits ("0.5 %").
+impl fmt::Display for Tolerance {
+    fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
+        write!(f, "{} %", trim_number(self.percent(), 3))
+    }
+}
 
 /// A quantity that could not be read, with the text, what it should be and why.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]

@@ -7,6 +7,7 @@
 //! never loses or renames one. Relies on [`crate::stage`] for the numbers and [`crate::network`] for parts.
 
 pub mod design;
+pub mod fix;
 pub mod histogram;
 pub mod html;
 pub mod result;

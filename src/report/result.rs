@@ -4,8 +4,8 @@
 //! order as the string's values, give each member's exact value, tolerance, rating and location. Stages are
 //! matched to the design file's by name.
 
+use crate::network::parse_network;
 use crate::network::Network;
-use crate::notation::parse_network;
 use crate::stage::{Slot, SlotNetworks, Stage};
 use crate::units::{Ohms, Tolerance, Watts};
 use serde_json::Value;

@@ -366,8 +366,8 @@ pub fn render_ideal(r: &Report, colour: bool) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+    use crate::network::parse_network;
     use crate::network::{Member, Network};
-    use crate::notation::parse_network;
     use crate::stage::{parse, Slot, SlotNetworks};
     use crate::units::{Tolerance, Watts};
 

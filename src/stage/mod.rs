@@ -944,7 +944,7 @@ impl Stage {
 
     /// Whether the stage's supplies reach 50 V DC, the top of safe extra-low voltage.
     pub fn high_voltage(&self) -> bool {
-        self.supply_span().0 >= 50.0
+        self.supply_span() >= crate::units::SAFE_EXTRA_LOW_VOLTAGE
     }
 }
 

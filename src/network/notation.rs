@@ -2,8 +2,8 @@
 //! parentheses group, as in `(220+47)|1k`. `|` binds tighter than `+`, the way × binds tighter than + and the
 //! way 1/R adds up for parallel parts, so `1k+2k|2k` is 1k in series with (2k | 2k) = 2 kΩ.
 
-use crate::network::{Member, Network};
-use crate::notation::value::parse_ohms;
+use super::{Member, Network};
+use crate::notation::value::{code, parse_ohms};
 use crate::units::{Tolerance, Watts};
 
 /// A network notation that could not be read.
@@ -178,6 +178,49 @@ pub fn parse_network(
         return p.fail(format!("unexpected '{c}'"));
     }
     Ok(net)
+}
+
+/// Writing a network in the same notation, so that what biasfit prints can be pasted back into `--use`.
+impl Network {
+    /// The network in the `--use` notation: `a+b` is series, `a|b` parallel, parentheses where needed.
+    pub fn notation(&self) -> String {
+        self.notation_in(None)
+    }
+
+    fn notation_in(&self, parent: Option<bool>) -> String {
+        match self {
+            Network::Single(m) => code(m.ohms),
+            Network::Series(parts) | Network::Parallel(parts) => {
+                let series = matches!(self, Network::Series(_));
+                let joined = parts
+                    .iter()
+                    .map(|p| p.notation_in(Some(series)))
+                    .collect::<Vec<_>>()
+                    .join(if series { "+" } else { "|" });
+                // '|' binds tighter than '+', so only a series inside a parallel needs brackets; we also
+                // bracket a parallel inside a series, since people read a+(b|c) faster than a+b|c.
+                if parent.is_some() && parts.len() > 1 {
+                    format!("({joined})")
+                } else {
+                    joined
+                }
+            }
+        }
+    }
+
+    /// How to connect it, in words, for a build sheet.
+    pub fn wiring(&self) -> String {
+        match self {
+            Network::Single(m) => format!("one {}", code(m.ohms)),
+            Network::Series(parts) if parts.iter().all(|p| matches!(p, Network::Single(_))) => {
+                format!("{} in series", parts.len())
+            }
+            Network::Parallel(parts) if parts.iter().all(|p| matches!(p, Network::Single(_))) => {
+                format!("{} in parallel", parts.len())
+            }
+            _ => format!("as drawn: {}", self.notation()),
+        }
+    }
 }
 
 #[cfg(test)]
