@@ -17,7 +17,12 @@ fn edges() -> BTreeMap<String, BTreeSet<String>> {
                 continue;
             }
             let rel = path.strip_prefix(&src).unwrap();
-            let top = rel.components().next().unwrap().as_os_str().to_string_lossy();
+            let top = rel
+                .components()
+                .next()
+                .unwrap()
+                .as_os_str()
+                .to_string_lossy();
             let module = top.trim_end_matches(".rs").to_string();
             let is_test_file = path.file_name().is_some_and(|n| n == "tests.rs");
             if ["lib", "main", "cli"].contains(&module.as_str()) || is_test_file {
@@ -25,7 +30,10 @@ fn edges() -> BTreeMap<String, BTreeSet<String>> {
             }
             let text = std::fs::read_to_string(&path).unwrap();
             let production = text.split("#[cfg(test)]").next().unwrap();
-            for line in production.lines().filter(|l| !l.trim_start().starts_with("//")) {
+            for line in production
+                .lines()
+                .filter(|l| !l.trim_start().starts_with("//"))
+            {
                 for (i, _) in line.match_indices("crate::") {
                     let name: String = line[i + 7..]
                         .chars()

@@ -264,7 +264,7 @@ fn collector_feedback_below_vbe_has_no_consistent_region() {
     c.stage.rule.vre = 0.1;
     c.values = SlotValues::from_pairs([
         (Slot::RC, Ohms(10.0)),
-        (Slot::RE, Ohms(6036.185_279_704_491)),
+        (Slot::RE, Ohms(6_036.185_279_704_491)),
         (Slot::RB, Ohms(1000.0)),
     ]);
     // The sweep met it at one temperature; look for the state over the range rather than pin that one.

@@ -11,6 +11,9 @@
 //! unknown key is refused naming the nearest valid one. Line numbers come from a table of line starts,
 //! built once per file. Top-level `[[stage]]` tables are left to the stage reader.
 
+// A refusal ends the read, once per file, so the size of the error value costs nothing worth boxing for.
+#![allow(clippy::result_large_err)]
+
 use super::fet::Channel;
 use super::jfet::Jfet;
 use super::model::{Circuit, Kind, ModelError, Quantity, Ranged, Requirement, Target};
@@ -1099,7 +1102,7 @@ fn read_part(cx: &Cx, c: &mut Circuit, t: &Table, line: usize) -> Res<()> {
             };
             // 100 000 (100 dB) when not given: a typical general-purpose figure (from memory).
             let gain = number(cx, &mut tab, "gain", 1e5, |g| {
-                if g >= 1.0 && g <= 1e9 {
+                if (1.0..=1e9).contains(&g) {
                     Ok(())
                 } else {
                     Err("expected an open-loop gain from 1 to 1e9, such as 100000".into())

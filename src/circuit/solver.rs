@@ -389,7 +389,7 @@ impl<'c> Solver<'c> {
                 continue;
             }
             let r = self.f[k].abs() / (self.scale[k] + 1e-300);
-            if !(r <= worst.0) {
+            if r > worst.0 || r.is_nan() {
                 worst = (r, node);
             }
         }
