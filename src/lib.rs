@@ -22,6 +22,7 @@
 #![forbid(unsafe_code)]
 
 pub mod bench;
+pub mod circuit;
 pub mod fix;
 pub mod input;
 pub mod network;

@@ -31,6 +31,7 @@ fn seeds() -> &'static Vec<Vec<u8>> {
         for dir in [
             "stock",
             "examples",
+            "examples/circuits",
             "tests/fixtures",
             "tests/fixtures/stock",
             "tests/fixtures/designs",
@@ -230,6 +231,23 @@ fn all_file_parsers(bytes: &[u8]) -> Result<(), TestCaseError> {
             }
         }
         Err(e) => one_line("design file", e)?,
+    }
+    match biasfit::circuit::file::parse("p.toml", text) {
+        Ok(circuits) => {
+            for c in &circuits {
+                // Every slot at one value: whatever was accepted must solve or say in one line why not.
+                let slots = vec![biasfit::units::Ohms(4700.0); c.slots().len()];
+                if let Ok(b) = c.typical(&slots) {
+                    let solved = biasfit::circuit::Solver::new(c)
+                        .solve(&b, &biasfit::circuit::Options::default());
+                    match solved {
+                        Ok(sol) => prop_assert!(sol.nodes.iter().all(|v| v.0.is_finite())),
+                        Err(e) => one_line("circuit solve", e)?,
+                    }
+                }
+            }
+        }
+        Err(e) => one_line("circuit file", e)?,
     }
     Ok(())
 }
