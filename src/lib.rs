@@ -23,6 +23,7 @@
 
 pub mod bench;
 pub mod circuit;
+pub mod design_file;
 pub mod fix;
 pub mod input;
 pub mod network;

@@ -179,7 +179,7 @@ impl Circuit {
                         name,
                         f64::from(u8::from(ok)),
                         1.0,
-                        CheckUnit::Ratio,
+                        CheckUnit::Flag,
                         true,
                     ));
                 }

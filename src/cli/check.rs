@@ -2,9 +2,12 @@
 //! from the given networks.
 
 use super::drawings::DrawingArgs;
-use super::ideal::{stages, PartArgs};
+use super::ideal::PartArgs;
 use super::{Failure, Out};
-use biasfit::network::parse_network;
+use biasfit::circuit::Circuit;
+use biasfit::design_file::{self, Position};
+use biasfit::network::{parse_network, Network};
+use biasfit::report::circuit::CircuitReport;
 use biasfit::report::html::{pick_list, SheetStage};
 use biasfit::report::{table, Report, StageReport};
 use biasfit::stage::{Slot, SlotNetworks, Stage};
@@ -20,8 +23,9 @@ pub struct CheckArgs {
     /// The networks, as SLOT=NETWORK pairs joined by commas: R1=15k,R2=3k3,RC=2k2,RE=(220+47)|1k
     #[arg(long = "use", value_name = "SLOTS", required = true)]
     pub slots: Vec<String>,
-    /// The stage to check (its name, or its number from 1); needed when the file has several
-    #[arg(long, value_name = "NAME")]
+    /// The stage or circuit to check (its name, or its number from 1, stages first); needed when the file
+    /// has several
+    #[arg(long, visible_alias = "circuit", value_name = "NAME")]
     pub stage: Option<String>,
     #[command(flatten)]
     pub parts: PartArgs,
@@ -110,24 +114,114 @@ pub fn networks(
     Ok(nets)
 }
 
+/// Reads `--use` values into networks for a circuit's slots, in [`Circuit::slots`] order: every slot it
+/// has, nothing it lacks, none twice.
+pub fn circuit_networks(
+    c: &Circuit,
+    given: &[String],
+    tol: Tolerance,
+    watts: Watts,
+) -> Result<Vec<Network>, Failure> {
+    let slots: Vec<&str> = c
+        .slots()
+        .iter()
+        .map(|&i| c.parts[i].name.as_str())
+        .collect();
+    let expected = if slots.is_empty() {
+        "none: every resistor has a value".to_string()
+    } else {
+        slots.join(", ")
+    };
+    let mut nets: Vec<Option<Network>> = vec![None; slots.len()];
+    for item in given.iter().flat_map(|g| g.split(',')) {
+        let item = item.trim();
+        if item.is_empty() {
+            continue;
+        }
+        let (name, value) = item.split_once('=').ok_or_else(|| {
+            Failure::Input(format!(
+                "--use: \"{item}\" is not SLOT=NETWORK; expected pairs such as RT=4k7+220"
+            ))
+        })?;
+        let name = name.trim();
+        if value.contains('=') {
+            return Err(Failure::Input(format!(
+                "--use: \"{item}\" holds more than one '='; separate SLOT=NETWORK pairs with commas, as in RT=4k7,R1=10k"
+            )));
+        }
+        let k = slots.iter().position(|s| *s == name).ok_or_else(|| {
+            let why = match c.parts.iter().find(|p| p.name == name).map(|p| &p.kind) {
+                Some(biasfit::circuit::Kind::Resistor { .. }) => {
+                    "has its value in the file, so it is not a slot".to_string()
+                }
+                Some(k) => format!(
+                    "is a {}; only a resistor without a value is a slot",
+                    k.name()
+                ),
+                None => "is not a part of the circuit".to_string(),
+            };
+            Failure::Input(format!(
+                "--use: {} {why}; circuit \"{}\" has the slots {expected}",
+                biasfit::notation::excerpt(name),
+                c.name
+            ))
+        })?;
+        if nets[k].is_some() {
+            return Err(Failure::Input(format!(
+                "--use: {name} is given twice; give each slot once"
+            )));
+        }
+        let net = parse_network(value, tol, watts)
+            .map_err(|e| Failure::Input(format!("--use {name}: {e}")))?;
+        nets[k] = Some(net);
+    }
+    let missing: Vec<&str> = slots
+        .iter()
+        .zip(&nets)
+        .filter(|(_, n)| n.is_none())
+        .map(|(s, _)| *s)
+        .collect();
+    if !missing.is_empty() {
+        return Err(Failure::Input(format!(
+            "--use: no value for {}; circuit \"{}\" needs {expected}",
+            missing.join(", "),
+            c.name
+        )));
+    }
+    Ok(nets.into_iter().flatten().collect())
+}
+
 /// Runs `biasfit check`.
 pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     let (tol, watts) = args.parts.resolve()?;
-    let (design, picked) = stages(&args.file, args.stage.as_deref())?;
-    if picked.len() > 1 {
-        let names: Vec<String> = design
-            .stages
-            .iter()
-            .map(|s| format!("\"{}\"", s.name))
-            .collect();
-        return Err(Failure::Input(format!(
-            "{} has {} stages ({}); pick the one to check with --stage",
-            design.file,
-            names.len(),
-            names.join(", ")
-        )));
-    }
-    let s = &design.stages[picked[0]];
+    let design = design_file::load(&args.file).map_err(super::input)?;
+    let picked = match args.stage.as_deref() {
+        Some(w) => design.position(w).ok_or_else(|| {
+            Failure::Input(format!(
+                "--stage {}: {} has no such stage or circuit; it holds {} (or give a number from 1 to {})",
+                biasfit::notation::excerpt(w),
+                design.file,
+                design.names().join(", "),
+                design.stages.len() + design.circuits.len()
+            ))
+        })?,
+        None => match (design.stages.as_slice(), design.circuits.as_slice()) {
+            ([s], []) => Position::Stage(s),
+            ([], [c]) => Position::Circuit(c),
+            _ => {
+                return Err(Failure::Input(format!(
+                    "{} holds {} ({}); pick the one to check with --stage",
+                    design.file,
+                    design.stages.len() + design.circuits.len(),
+                    design.names().join(", ")
+                )))
+            }
+        },
+    };
+    let s = match picked {
+        Position::Stage(s) => s,
+        Position::Circuit(c) => return check_circuit(&args, c, tol, watts, out),
+    };
     let nets = networks(s, &args.slots, tol, watts)?;
     let report = Report::new(vec![StageReport::new(s, &nets)]);
     if args.drawings.wanted() {
@@ -140,6 +234,37 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
             super::output::note(&format!("wrote {}", f.display()));
         }
     }
+    if args.json {
+        out.json(&report)?;
+    } else {
+        out.text(&table::render_check(&report, out.colour()))?;
+    }
+    if report.all_ok() {
+        Ok(())
+    } else {
+        Err(Failure::ChecksFailed)
+    }
+}
+
+/// `check` on a circuit of the user's own: solve it built from the given networks, then judge it.
+fn check_circuit(
+    args: &CheckArgs,
+    c: &Circuit,
+    tol: Tolerance,
+    watts: Watts,
+    out: &mut Out,
+) -> Result<(), Failure> {
+    let nets = circuit_networks(c, &args.slots, tol, watts)?;
+    if args.drawings.wanted() {
+        return Err(Failure::Input(format!(
+            "circuit \"{}\": the drawings and the build sheet are made for [[stage]] tables only so far; leave out --svg and --html",
+            c.name
+        )));
+    }
+    let report = Report::of(
+        Vec::new(),
+        vec![CircuitReport::new(c, &nets).map_err(super::input)?],
+    );
     if args.json {
         out.json(&report)?;
     } else {

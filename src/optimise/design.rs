@@ -270,6 +270,8 @@ fn describe(c: &Check) -> String {
         CheckUnit::Amps => engineering(x, "A"),
         CheckUnit::Volts => engineering(x, "V"),
         CheckUnit::Watts => engineering(x, "W"),
+        CheckUnit::Flag if x >= 1.0 => "met".into(),
+        CheckUnit::Flag => "not met".into(),
     };
     let op = if c.at_least { "≥" } else { "≤" };
     format!(

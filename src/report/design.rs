@@ -200,6 +200,7 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
         }
         let single = Report {
             stages: vec![s.stage.clone()],
+            circuits: Vec::new(),
             cautions: Vec::new(),
         };
         let sheet = table::render_check(&single, colour);

@@ -6,6 +6,7 @@
 //! that evaluates built stages (check, ideal, and later design, fix, order and spread); it may gain keys but
 //! never loses or renames one. Relies on [`crate::stage`] for the numbers and [`crate::network`] for parts.
 
+pub mod circuit;
 pub mod design;
 pub mod fix;
 pub mod histogram;
@@ -29,6 +30,9 @@ use serde::{Serialize, Serializer};
 pub struct Report {
     /// The stages, in file order.
     pub stages: Vec<StageReport>,
+    /// The circuits of the user's own, in file order; left out of the JSON when there are none.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub circuits: Vec<circuit::CircuitReport>,
     /// Safety cautions (high voltage, hot parts); empty when none apply.
     pub cautions: Vec<String>,
 }
@@ -36,14 +40,49 @@ pub struct Report {
 impl Report {
     /// A report of stages, with the cautions they call for.
     pub fn new(stages: Vec<StageReport>) -> Report {
-        let cautions = stages.iter().flat_map(|s| s.cautions()).collect();
-        Report { stages, cautions }
+        Report::of(stages, Vec::new())
     }
 
-    /// Whether every check of every stage passed.
+    /// A report of stages and circuits, with the cautions they call for.
+    pub fn of(stages: Vec<StageReport>, circuits: Vec<circuit::CircuitReport>) -> Report {
+        let cautions = stages
+            .iter()
+            .flat_map(|s| s.cautions())
+            .chain(circuits.iter().flat_map(|c| c.cautions()))
+            .collect();
+        Report {
+            stages,
+            circuits,
+            cautions,
+        }
+    }
+
+    /// Whether every check of every stage and circuit passed.
     pub fn all_ok(&self) -> bool {
         self.stages.iter().all(|s| s.checks.iter().all(|c| c.ok))
+            && self.circuits.iter().all(|c| c.all_ok())
     }
+}
+
+/// The caution for supplies at or above safe extra-low voltage; `subject` is `stage "name"` or the like.
+pub(crate) fn high_voltage_caution(subject: &str, span: f64) -> String {
+    format!(
+        "{subject} spans {}: supplies of 50 V DC or more are above safe extra-low voltage, and \
+         anything powered from the mains can kill. Such work is for people trained and, where the \
+         law requires it, licensed for it; follow your local electrical codes, which take precedence \
+         over anything biasfit prints.",
+        crate::notation::engineering(span, "V")
+    )
+}
+
+/// The caution for parts over their derated power, named in `hot`.
+pub(crate) fn hot_caution(subject: &str, hot: &[&str]) -> String {
+    format!(
+        "{subject}: {} over the derated limit. A part run near its rating gets hot enough to burn \
+         skin and scorch a board; biasfit knows nothing of your airflow or enclosure. Touch nothing \
+         that has been powered until you have checked it is cool.",
+        hot.join(", ")
+    )
 }
 
 /// What the rule asks for.
@@ -382,13 +421,9 @@ impl StageReport {
     pub fn cautions(&self) -> Vec<String> {
         let mut out = Vec::new();
         if self.high_voltage {
-            out.push(format!(
-                "stage \"{}\" spans {}: supplies of 50 V DC or more are above safe extra-low voltage, and \
-                 anything powered from the mains can kill. Such work is for people trained and, where the \
-                 law requires it, licensed for it; follow your local electrical codes, which take precedence \
-                 over anything biasfit prints.",
-                self.name,
-                crate::notation::engineering(self.supply + self.supply_neg.unwrap_or(0.0), "V")
+            out.push(high_voltage_caution(
+                &format!("stage \"{}\"", self.name),
+                self.supply + self.supply_neg.unwrap_or(0.0),
             ));
         }
         let hot: Vec<&str> = self
@@ -398,13 +433,7 @@ impl StageReport {
             .map(|c| c.name.as_str())
             .collect();
         if !hot.is_empty() {
-            out.push(format!(
-                "stage \"{}\": {} over the derated limit. A part run near its rating gets hot enough to burn \
-                 skin and scorch a board; biasfit knows nothing of your airflow or enclosure. Touch nothing \
-                 that has been powered until you have checked it is cool.",
-                self.name,
-                hot.join(", ")
-            ));
+            out.push(hot_caution(&format!("stage \"{}\"", self.name), &hot));
         }
         out
     }

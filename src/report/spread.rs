@@ -325,6 +325,7 @@ pub fn render_spread(r: &SpreadReport) -> String {
     }
     out.push_str(&cautions(&Report {
         stages: Vec::new(),
+        circuits: Vec::new(),
         cautions: r.cautions.clone(),
     }));
     out

@@ -76,7 +76,7 @@ fn visible_len(s: &str) -> usize {
     n
 }
 
-fn verdict(ok: bool, colour: bool) -> String {
+pub(super) fn verdict(ok: bool, colour: bool) -> String {
     match (ok, colour) {
         (true, false) => "ok".into(),
         (false, false) => "FAIL".into(),
@@ -85,7 +85,7 @@ fn verdict(ok: bool, colour: bool) -> String {
     }
 }
 
-fn percent(x: f64) -> String {
+pub(super) fn percent(x: f64) -> String {
     if !x.is_finite() {
         return "∞".into();
     }
@@ -97,11 +97,11 @@ fn percent(x: f64) -> String {
     }
 }
 
-fn amps(x: f64) -> String {
+pub(super) fn amps(x: f64) -> String {
     engineering(x, "A")
 }
 
-fn volts(x: f64) -> String {
+pub(super) fn volts(x: f64) -> String {
     engineering(x, "V")
 }
 
@@ -115,6 +115,8 @@ pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
         CheckUnit::Amps => amps(x),
         CheckUnit::Volts => volts(x),
         CheckUnit::Watts => engineering(x, "W"),
+        CheckUnit::Flag if x >= 1.0 => "met".into(),
+        CheckUnit::Flag => "not met".into(),
     }
 }
 
@@ -161,14 +163,24 @@ fn targets_line(s: &StageReport) -> String {
 }
 
 fn checks_table(s: &StageReport, colour: bool) -> String {
+    checks_grid(&s.checks, colour)
+}
+
+/// The checks as a table: what, value, limit, verdict.
+pub(super) fn checks_grid(checks: &[CheckReport], colour: bool) -> String {
     let mut g = Grid::new(1);
     g.row(["check", "value", "limit", ""]);
-    for c in &s.checks {
+    for c in checks {
         let sense = if c.at_least { "≥" } else { "≤" };
+        let limit = if c.unit == CheckUnit::Flag {
+            "required".to_string()
+        } else {
+            format!("{sense} {}", check_value(c, c.limit))
+        };
         g.row([
             c.name.clone(),
             check_value(c, c.value),
-            format!("{sense} {}", check_value(c, c.limit)),
+            limit,
             verdict(c.ok, colour),
         ]);
     }
@@ -313,7 +325,117 @@ pub fn render_check(r: &Report, colour: bool) -> String {
         out.push('\n');
         out.push_str(&checks_table(s, colour));
     }
+    for (i, c) in r.circuits.iter().enumerate() {
+        if i > 0 || !r.stages.is_empty() {
+            out.push('\n');
+        }
+        out.push_str(&circuit_check(c, colour));
+    }
     out.push_str(&cautions(r));
+    out
+}
+
+/// One built circuit: its slots, node voltages, parts at the operating point, targets and checks.
+fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
+    let mut out = format!("circuit \"{}\"\n", c.name);
+    let slots: Vec<_> = c
+        .parts
+        .0
+        .iter()
+        .filter(|(_, p)| p.network.is_some())
+        .collect();
+    if !slots.is_empty() {
+        let mut g = Grid::new(3);
+        g.row(["slot", "network", "parts"]);
+        for (name, p) in slots {
+            let members = p.parts.as_deref().unwrap_or_default();
+            let parts = members
+                .iter()
+                .map(|m| {
+                    let mut t = format!(
+                        "{} {} {}",
+                        code(Ohms(m.ohms)),
+                        crate::units::Tolerance(m.tolerance),
+                        engineering(m.power, "W")
+                    );
+                    if let Some(l) = &m.location {
+                        let _ = write!(t, " @{l}");
+                    }
+                    t
+                })
+                .collect::<Vec<_>>()
+                .join(", ");
+            let network = p.network.clone().unwrap_or_default();
+            let shown = match p.ohms {
+                Some(o) if members.len() > 1 => format!("{network} = {}", code(Ohms(o))),
+                _ => network,
+            };
+            g.row([name.clone(), shown, parts]);
+        }
+        out.push('\n');
+        out.push_str(&g.render("  "));
+    }
+
+    let mut g = Grid::new(1);
+    g.row(["node", "from ground"]);
+    for (name, v) in &c.nodes.0 {
+        g.row([name.clone(), volts(*v)]);
+    }
+    out.push('\n');
+    out.push_str(&g.render("  "));
+
+    let mut g = Grid::new(3);
+    g.row(["part", "kind", "region", "current", "across", "power"]);
+    for (name, p) in &c.parts.0 {
+        let kind = match p.ohms {
+            Some(o) if p.network.is_none() => format!("{} {}", p.kind, code(Ohms(o))),
+            _ => p.kind.to_string(),
+        };
+        g.row([
+            name.clone(),
+            kind,
+            p.region.unwrap_or("").to_string(),
+            amps(p.current),
+            volts(p.across),
+            engineering(p.power, "W"),
+        ]);
+    }
+    out.push('\n');
+    out.push_str(&g.render("  "));
+
+    if !c.targets.is_empty() {
+        let mut g = Grid::new(1);
+        g.row(["at typical", "target", "actual", "deviation"]);
+        for t in &c.targets {
+            let show = |x: f64| if t.amps { amps(x) } else { volts(x) };
+            g.row([
+                t.what.clone(),
+                show(t.target),
+                show(t.actual),
+                percent(t.deviation),
+            ]);
+        }
+        g.row([
+            "error".to_string(),
+            String::new(),
+            String::new(),
+            format!("{} %", trim_number(c.error * 100.0, 3)),
+        ]);
+        out.push('\n');
+        out.push_str(&g.render("  "));
+    }
+    if let Some(parts) = &c.latch {
+        let _ = writeln!(
+            out,
+            "\n  {} more than one operating point: {} can settle in another region; the circuit may latch",
+            verdict(false, colour),
+            parts.join(", ")
+        );
+    }
+    if !c.checks.is_empty() {
+        out.push('\n');
+        out.push_str(&checks_grid(&c.checks, colour));
+    }
     out
 }
 

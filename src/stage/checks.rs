@@ -22,6 +22,8 @@ pub enum CheckUnit {
     Volts,
     /// Watts.
     Watts,
+    /// Met (1) or not (0): a required region, say.
+    Flag,
 }
 
 /// One check: a value against a limit.

@@ -123,6 +123,12 @@ pub enum DesignError {
         /// The file.
         file: String,
     },
+    /// The file holds circuits but no stages, and stages were asked for.
+    #[error("{file}: no [[stage]] tables, only [[circuit]] tables; so far circuits are read by `biasfit check` only (filling their slots from stock is to come)")]
+    OnlyCircuits {
+        /// The file.
+        file: String,
+    },
 }
 
 /// Reads a design file from disk.
@@ -151,15 +157,19 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
     })?;
     let root = doc.as_table();
     for (key, _) in root.iter() {
-        if key != "stage" {
+        // `[[circuit]]` tables are read by `circuit::file`; the two readers share the file.
+        if key != "stage" && key != "circuit" {
             let line = root
                 .get_key_value(key)
                 .and_then(|(k, _)| k.span())
                 .map_or(1, |s| cx.line(s.start));
-            return Err(cx.unknown(line, "the file's top level", key, &["stage"]));
+            return Err(cx.unknown(line, "the file's top level", key, &["stage", "circuit"]));
         }
     }
     let stages_item = match root.get("stage") {
+        None if root.contains_key("circuit") => {
+            return Err(DesignError::OnlyCircuits { file: file.into() })
+        }
         None => return Err(DesignError::NoStages { file: file.into() }),
         Some(i) => i,
     };
