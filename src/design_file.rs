@@ -98,15 +98,23 @@ pub fn load(path: &Path) -> Result<DesignFile, DesignFileError> {
 
 /// Reads a design file's text; `file` names it in messages.
 pub fn parse(file: &str, text: &str) -> Result<DesignFile, DesignFileError> {
-    let stages = match crate::stage::design::parse(file, text) {
-        Ok(d) => d.stages,
-        Err(DesignError::OnlyCircuits { .. } | DesignError::NoStages { .. }) => Vec::new(),
-        Err(e) => return Err(e.into()),
+    let read_stages = || match crate::stage::design::parse(file, text) {
+        Ok(d) => Ok(d.stages),
+        Err(DesignError::OnlyCircuits { .. } | DesignError::NoStages { .. }) => Ok(Vec::new()),
+        Err(e) => Err(DesignFileError::from(e)),
     };
-    let circuits = match crate::circuit::file::parse(file, text) {
-        Ok(c) => c,
-        Err(CircuitFileError::NoCircuits { .. }) => Vec::new(),
-        Err(e) => return Err(e.into()),
+    let read_circuits = || match crate::circuit::file::parse(file, text) {
+        Ok(c) => Ok(c),
+        Err(CircuitFileError::NoCircuits { .. }) => Ok(Vec::new()),
+        Err(e) => Err(DesignFileError::from(e)),
+    };
+    // A file that is not valid TOML is refused by whichever reader goes first; the circuit reader's words
+    // fit a file that holds circuits (a rail named twice, say), the stage reader's every other file.
+    let (stages, circuits) = if text.contains("[[circuit") {
+        let circuits = read_circuits()?;
+        (read_stages()?, circuits)
+    } else {
+        (read_stages()?, read_circuits()?)
     };
     if stages.is_empty() && circuits.is_empty() {
         return Err(DesignFileError::Empty { file: file.into() });

@@ -1303,7 +1303,7 @@ fn existing_node(cx: &Cx, c: &Circuit, v: &Val, s: &str) -> Res<usize> {
         v.refuse(
             cx,
             format!(
-                "the circuit has no node '{s}'{hint}; its nodes are {}",
+                "the circuit has no node '{s}'{hint}; expected one of its nodes: {}",
                 names.join(", ")
             ),
         )

@@ -209,12 +209,19 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
             ([s], []) => Position::Stage(s),
             ([], [c]) => Position::Circuit(c),
             _ => {
+                let what = if design.circuits.is_empty() {
+                    "stages"
+                } else if design.stages.is_empty() {
+                    "circuits"
+                } else {
+                    "stages and circuits"
+                };
                 return Err(Failure::Input(format!(
-                    "{} holds {} ({}); pick the one to check with --stage",
+                    "{} has {} {what} ({}); pick the one to check with --stage",
                     design.file,
                     design.stages.len() + design.circuits.len(),
                     design.names().join(", ")
-                )))
+                )));
             }
         },
     };

@@ -63,6 +63,15 @@ pub fn stages(
     which: Option<&str>,
 ) -> Result<(Design, Vec<usize>), Failure> {
     let design = stage::load(file).map_err(|e| Failure::Input(e.to_string()))?;
+    if design.circuit_tables > 0 {
+        super::output::warn_all(&[format!(
+            "{} also holds {} [[circuit]] table{}; this command works on its [[stage]] tables and leaves {} out (so far `biasfit check` reads circuits)",
+            design.file,
+            design.circuit_tables,
+            if design.circuit_tables == 1 { "" } else { "s" },
+            if design.circuit_tables == 1 { "it" } else { "them" },
+        )]);
+    }
     let picked = match which {
         None => (0..design.stages.len()).collect(),
         Some(w) => {

@@ -20,6 +20,8 @@ pub struct Design {
     pub file: String,
     /// The stages.
     pub stages: Vec<Stage>,
+    /// How many `[[circuit]]` tables the file also holds (read by `circuit::file`, not here).
+    pub circuit_tables: usize,
 }
 
 impl Design {
@@ -224,9 +226,15 @@ pub fn parse(file: &str, text: &str) -> Result<Design, DesignError> {
     if stages.is_empty() {
         return Err(DesignError::NoStages { file: file.into() });
     }
+    let circuit_tables = match root.get("circuit") {
+        Some(Item::ArrayOfTables(a)) => a.len(),
+        Some(_) => 1,
+        None => 0,
+    };
     Ok(Design {
         file: file.to_string(),
         stages,
+        circuit_tables,
     })
 }
 
