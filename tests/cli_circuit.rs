@@ -16,7 +16,7 @@ fn close(a: f64, b: f64, rel: f64) -> bool {
     (a - b).abs() <= rel * b.abs().max(1e-12)
 }
 
-const LEDS: &str = "examples/circuits/led-string.toml";
+const LEDS: &str = "examples/starters/led-string.toml";
 
 #[test]
 fn a_led_string_checks_against_ohms_law_kirchhoff_and_the_shockley_law() {
@@ -113,7 +113,7 @@ fn a_network_in_a_slot_shares_its_power_by_member() {
 fn the_tail_pair_reads_from_real_ground_with_signs() {
     let out = biasfit(&[
         "check",
-        "examples/circuits/tail-pair.toml",
+        "examples/starters/tail-pair.toml",
         "--use",
         "RT=8k2",
         "--json",
@@ -162,7 +162,7 @@ fn what_is_not_a_slot_is_refused_in_one_line() {
     }
     let out = biasfit(&[
         "check",
-        "examples/circuits/tail-pair.toml",
+        "examples/starters/tail-pair.toml",
         "--use",
         "RC1=1k,RT=8k2",
     ]);

@@ -31,7 +31,7 @@ fn seeds() -> &'static Vec<Vec<u8>> {
         for dir in [
             "stock",
             "examples",
-            "examples/circuits",
+            "examples/starters",
             "tests/fixtures",
             "tests/fixtures/stock",
             "tests/fixtures/designs",

@@ -408,7 +408,7 @@ fn name_of(cx: &Cx, v: &Val, what: &str) -> Res<String> {
 const CIRCUIT_KEYS: &[&str] = &["name", "rails", "part", "target", "require", "limits"];
 const LIMITS_KEYS: &[&str] = &["derate", "ambient", "temperature"];
 const TARGET_KEYS: &[&str] = &["node", "part", "between", "volts", "amps", "weight"];
-const REQUIRE_KEYS: &[&str] = &["part", "region", "min_amps", "stiff", "over"];
+const REQUIRE_KEYS: &[&str] = &["part", "region", "min_amps", "stiff", "over", "overdrive"];
 const TRANSISTOR_KEYS: &[&str] = &[
     "beta",
     "vbe",
@@ -1424,8 +1424,16 @@ fn read_requirement(cx: &Cx, c: &Circuit, t: &Table, line: usize) -> Res<Require
     let region = tab.get(cx, "region");
     let min = tab.get(cx, "min_amps");
     let stiff = tab.get(cx, "stiff");
-    let r = match (region, min, stiff) {
-        (Some(v), None, None) => {
+    let overdrive = tab.get(cx, "overdrive");
+    let r = match (region, min, stiff, overdrive) {
+        (None, None, None, Some(v)) => {
+            let times = v.number().filter(|x| *x >= 1.0 && *x <= 1e3).ok_or_else(|| v.refuse(cx, "expected how many times the least base current that saturates it at min beta, at least 1, such as 2"))?;
+            if !matches!(c.parts[part].kind, Kind::Bjt { .. }) {
+                return Err(pv.refuse(cx, "overdrive is a bipolar transistor's; name an npn or pnp"));
+            }
+            Requirement::Overdrive { part, times }
+        }
+        (Some(v), None, None, None) => {
             let names: Option<Vec<String>> = match v.item.as_value() {
                 Some(Value::Array(a)) => a.iter().map(|x| x.as_str().map(|s| s.trim().to_string())).collect(),
                 Some(Value::String(s)) => Some(vec![s.value().trim().to_string()]),
@@ -1448,8 +1456,8 @@ fn read_requirement(cx: &Cx, c: &Circuit, t: &Table, line: usize) -> Res<Require
             }
             Requirement::Region { part, allowed }
         }
-        (None, Some(v), None) => Requirement::MinCurrent { part, amps: amps(cx, &v)? },
-        (None, None, Some(v)) => {
+        (None, Some(v), None, None) => Requirement::MinCurrent { part, amps: amps(cx, &v)? },
+        (None, None, Some(v), None) => {
             let times = v.number().filter(|x| *x > 0.0 && *x <= 1e6).ok_or_else(|| v.refuse(cx, "expected a ratio above 0, such as 10"))?;
             let ov = tab.require(cx, "over", "the transistor whose base current it is held against, such as \"Q1\"")?;
             let over = existing_part(cx, c, &ov)?;
@@ -1464,7 +1472,7 @@ fn read_requirement(cx: &Cx, c: &Circuit, t: &Table, line: usize) -> Res<Require
                 line,
                 table: "[[circuit.require]]".into(),
                 key: "region",
-                expected: "exactly one of region = \"active\", min_amps = \"100uA\" or stiff = 10 (with over = \"Q1\")".into(),
+                expected: "exactly one of region = \"active\", min_amps = \"100uA\", stiff = 10 (with over = \"Q1\") or overdrive = 2".into(),
             })
         }
     };
@@ -1473,6 +1481,7 @@ fn read_requirement(cx: &Cx, c: &Circuit, t: &Table, line: usize) -> Res<Require
         Requirement::Region { .. } => vec!["region"],
         Requirement::MinCurrent { .. } => vec!["min_amps"],
         Requirement::Stiff { .. } => vec!["stiff", "over"],
+        Requirement::Overdrive { .. } => vec!["overdrive"],
     });
     tab.finish(cx, &allowed)?;
     Ok(r)

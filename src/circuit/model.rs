@@ -292,6 +292,14 @@ pub enum Requirement {
         /// The ratio required.
         times: f64,
     },
+    /// A saturated switch's overdrive: the base current at min beta at least `times` the least base
+    /// current that would saturate it there (IC / min beta).
+    Overdrive {
+        /// The bipolar transistor.
+        part: usize,
+        /// The overdrive factor required.
+        times: f64,
+    },
 }
 
 /// A circuit the user describes.

@@ -190,6 +190,31 @@ impl Circuit {
                     CheckUnit::Amps,
                     true,
                 )),
+                Requirement::Overdrive { part, times } => {
+                    let mut b = typical.clone();
+                    let mut beta_min = f64::NAN;
+                    if let (Kind::Bjt { transistor, .. }, Element::Bjt(el)) =
+                        (&self.parts[*part].kind, &mut b.elements[*part])
+                    {
+                        beta_min = transistor.beta_at(transistor.beta.min, ambient);
+                        el.beta = beta_min;
+                    }
+                    let at_min = solver.solve(&b, options)?;
+                    let ib = at_min.parts[*part].base_current.0.abs();
+                    let ic = at_min.parts[*part].current.0.abs();
+                    let ratio = if ic > 0.0 {
+                        ib * beta_min / ic
+                    } else {
+                        f64::INFINITY
+                    };
+                    out.push(check(
+                        format!("overdrive {}", self.parts[*part].name),
+                        ratio,
+                        *times,
+                        CheckUnit::Times,
+                        true,
+                    ));
+                }
                 Requirement::Stiff { part, over, times } => {
                     let mut b = typical.clone();
                     if let (Kind::Bjt { transistor, .. }, Element::Bjt(el)) =

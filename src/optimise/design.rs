@@ -270,6 +270,7 @@ fn describe(c: &Check) -> String {
         CheckUnit::Amps => engineering(x, "A"),
         CheckUnit::Volts => engineering(x, "V"),
         CheckUnit::Watts => engineering(x, "W"),
+        CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
         CheckUnit::Flag if x >= 1.0 => "met".into(),
         CheckUnit::Flag => "not met".into(),
     };

@@ -115,6 +115,7 @@ pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
         CheckUnit::Amps => amps(x),
         CheckUnit::Volts => volts(x),
         CheckUnit::Watts => engineering(x, "W"),
+        CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
         CheckUnit::Flag if x >= 1.0 => "met".into(),
         CheckUnit::Flag => "not met".into(),
     }

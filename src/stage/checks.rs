@@ -24,6 +24,8 @@ pub enum CheckUnit {
     Watts,
     /// Met (1) or not (0): a required region, say.
     Flag,
+    /// A plain multiple ("2.5 ×"): a switch's overdrive.
+    Times,
 }
 
 /// One check: a value against a limit.
