@@ -34,6 +34,7 @@ pub mod report;
 pub mod save;
 pub mod spread;
 pub mod stage;
+pub mod starter;
 pub mod stock;
 pub mod units;
 

@@ -9,6 +9,7 @@ mod drawings;
 mod fix;
 mod flags;
 mod ideal;
+mod new;
 mod order;
 mod output;
 mod spread;
@@ -44,6 +45,8 @@ enum Command {
     Spread(spread::SpreadArgs),
     /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
     Verify(verify::VerifyArgs),
+    /// List the starter design files, or write one to begin a design from
+    New(new::NewArgs),
     /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
     Stock(stock::StockArgs),
 }
@@ -108,6 +111,7 @@ pub fn main() -> ExitCode {
         Command::Design(args) => design::run(args, &mut out),
         Command::Order(args) => order::run(args, &mut out),
         Command::Verify(args) => verify::run(args, &mut out),
+        Command::New(args) => new::run(args, &mut out),
     };
     match result {
         Ok(()) => ExitCode::SUCCESS,

@@ -336,6 +336,18 @@ pub fn render_check(r: &Report, colour: bool) -> String {
     out
 }
 
+/// An error's magnitude as a percentage to three figures; below 0.0005 % (rounding, not a deviation) it
+/// is 0 %.
+fn error_percent(x: f64) -> String {
+    if !x.is_finite() {
+        "∞".into()
+    } else if x * 100.0 < 0.0005 {
+        "0 %".into()
+    } else {
+        format!("{} %", trim_number(x * 100.0, 3))
+    }
+}
+
 /// One built circuit: its slots, node voltages, parts at the operating point, targets and checks.
 fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
     let mut out = format!("circuit \"{}\"\n", c.name);
@@ -420,7 +432,7 @@ fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
             "error".to_string(),
             String::new(),
             String::new(),
-            format!("{} %", trim_number(c.error * 100.0, 3)),
+            error_percent(c.error),
         ]);
         out.push('\n');
         out.push_str(&g.render("  "));
