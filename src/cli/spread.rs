@@ -102,6 +102,26 @@ pub fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
 /// Runs `biasfit spread`.
 pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let range = args.temp.as_deref().map(parse_range).transpose()?;
+    let file = biasfit::design_file::load(&args.file).map_err(input)?;
+    let circuit = match (args.stage.as_deref(), file.stages.as_slice(), file.circuits.as_slice()) {
+        (Some(w), _, _) => match file.position(w) {
+            Some(biasfit::design_file::Position::Circuit(c)) => Some(c),
+            _ => None,
+        },
+        (None, [], [c]) => Some(c),
+        (None, [], list) => {
+            return Err(Failure::Input(format!(
+                "{} has {} circuits ({}); pick the one to spread with --stage",
+                file.file,
+                list.len(),
+                file.names().join(", ")
+            )))
+        }
+        _ => None,
+    };
+    if let Some(c) = circuit {
+        return spread_circuit(&args, c, range, out);
+    }
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
     let chosen: Vec<&Stage> = picked.iter().map(|&i| &design.stages[i]).collect();
     let nets: Vec<SlotNetworks> = match &args.result {
@@ -199,5 +219,50 @@ mod tests {
         ] {
             assert!(parse_range(s).is_err(), "{s}");
         }
+    }
+}
+
+/// `spread` on a circuit of the user's own, built from `--use`.
+fn spread_circuit(
+    args: &SpreadArgs,
+    c: &biasfit::circuit::Circuit,
+    range: Option<(Celsius, Celsius)>,
+    out: &mut Out,
+) -> Result<(), Failure> {
+    if args.result.is_some() {
+        return Err(Failure::Input(format!(
+            "circuit \"{}\": --result reads stage designs only so far; give the circuit's networks with --use",
+            c.name
+        )));
+    }
+    if args.drawings.wanted() {
+        return Err(Failure::Input(format!(
+            "circuit \"{}\": the drawings and the build sheet are made for [[stage]] tables only so far; leave out --svg and --html",
+            c.name
+        )));
+    }
+    let (tol, watts) = args.parts.resolve()?;
+    let nets = super::check::circuit_networks(c, &args.slots, tol, watts)?;
+    let opts = Options {
+        runs: args.runs,
+        seed: args.seed,
+        temperatures: range
+            .or(c.limits.temperature)
+            .unwrap_or(Options::default().temperatures),
+        dist: match args.dist {
+            DistArg::Uniform => Dist::Uniform,
+            DistArg::Normal => Dist::Normal,
+        },
+        ..Options::default()
+    };
+    let progress = super::output::Progress::start("spreading");
+    let spread = biasfit::spread::circuit::spread_circuit(c, &nets, tol, &opts).map_err(input)?;
+    drop(progress);
+    let report = biasfit::report::circuit::CircuitReport::new(c, &nets).map_err(input)?;
+    let report = biasfit::report::spread::SpreadReport::of_circuit(report, spread);
+    if args.json {
+        out.json(&report)
+    } else {
+        out.text(&render_spread(&report))
     }
 }

@@ -23,11 +23,25 @@ pub struct SpreadStage {
     pub spread: StageSpread,
 }
 
-/// The whole spread report: `{"stages": [...], "cautions": [...]}`.
+/// One circuit: its report object, as `check` gives it, with the spread under the key `spread`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct SpreadCircuit {
+    /// The circuit object shared with `check`.
+    #[serde(flatten)]
+    pub circuit: super::circuit::CircuitReport,
+    /// The spread's findings.
+    pub spread: crate::spread::circuit::CircuitSpread,
+}
+
+/// The whole spread report: `{"stages": [...], "circuits": [...], "cautions": [...]}`, with `circuits` left
+/// out when there are none.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct SpreadReport {
     /// One entry per stage.
     pub stages: Vec<SpreadStage>,
+    /// One entry per circuit.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub circuits: Vec<SpreadCircuit>,
     /// Safety cautions, as `check` gives them.
     pub cautions: Vec<String>,
 }
@@ -43,7 +57,24 @@ impl SpreadReport {
             })
             .collect();
         let cautions = Report::new(stages.iter().map(|s| s.stage.clone()).collect()).cautions;
-        SpreadReport { stages, cautions }
+        SpreadReport {
+            stages,
+            circuits: Vec::new(),
+            cautions,
+        }
+    }
+
+    /// A report of one circuit's spread, with the cautions its report calls for.
+    pub fn of_circuit(
+        circuit: super::circuit::CircuitReport,
+        spread: crate::spread::circuit::CircuitSpread,
+    ) -> SpreadReport {
+        let cautions = circuit.cautions();
+        SpreadReport {
+            stages: Vec::new(),
+            circuits: vec![SpreadCircuit { circuit, spread }],
+            cautions,
+        }
     }
 }
 
@@ -323,6 +354,12 @@ pub fn render_spread(r: &SpreadReport) -> String {
         out.push_str(&monte_carlo_lines(s));
         out.push_str(&sensitivity_lines(s));
     }
+    for (i, c) in r.circuits.iter().enumerate() {
+        if i > 0 || !r.stages.is_empty() {
+            out.push('\n');
+        }
+        out.push_str(&circuit_spread(c));
+    }
     out.push_str(&cautions(&Report {
         stages: Vec::new(),
         circuits: Vec::new(),
@@ -365,4 +402,82 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
         })
         .collect();
     histogram::render_svg(&charts, 2)
+}
+
+/// One circuit's spread: each target's Monte Carlo and worst case, the yield, and what moves each target.
+fn circuit_spread(c: &SpreadCircuit) -> String {
+    use super::table::{amps, volts};
+    let sp = &c.spread;
+    let mut out = format!(
+        "circuit \"{}\": {} builds ({} resistors, device parameters uniform over their ranges), seed {}; worst case over {} to {}\n",
+        c.circuit.name,
+        sp.runs,
+        sp.dist.name(),
+        sp.seed,
+        crate::units::Celsius(sp.temperatures.0),
+        crate::units::Celsius(sp.temperatures.1),
+    );
+    let mut g = Grid::new(1);
+    g.row([
+        "target", "aim", "as built", "mean", "sd", "builds min", "builds max", "worst low",
+        "worst high", "±10 %", "±5 %",
+    ]);
+    for t in &sp.targets {
+        let show = |x: f64| if t.amps { amps(x) } else { volts(x) };
+        g.row([
+            t.what.clone(),
+            show(t.target),
+            show(t.nominal),
+            show(t.monte_carlo.mean),
+            show(t.monte_carlo.sd),
+            show(t.monte_carlo.min),
+            show(t.monte_carlo.max),
+            show(t.worst.0),
+            show(t.worst.1),
+            share(t.within_10),
+            share(t.within_5),
+        ]);
+    }
+    out.push('\n');
+    out.push_str(&g.render("  "));
+    let _ = writeln!(
+        out,
+        "\n  every target within ±10 %: {} of builds; within ±5 %: {} (deviations times their weights; the bench rule, common practice, no source)",
+        share(sp.yield_10),
+        share(sp.yield_5)
+    );
+    if sp.unsolved > 0 {
+        let _ = writeln!(
+            out,
+            "  {} builds had no operating point and count as out",
+            sp.unsolved
+        );
+    }
+    let mut g = Grid::new(2);
+    let mut head = vec!["part".to_string(), "varied".to_string()];
+    head.extend(sp.targets.iter().map(|t| t.what.clone()));
+    g.row(head);
+    for s in &sp.sensitivities {
+        let mut row = vec![
+            s.part.clone(),
+            if s.over == "range" {
+                "low to high end".to_string()
+            } else {
+                "per 1 % of R".to_string()
+            },
+        ];
+        row.extend(s.effect.iter().map(|e| {
+            if !e.is_finite() {
+                "-".to_string()
+            } else if s.over == "range" {
+                format!("{:+.2} %", e * 100.0)
+            } else {
+                format!("{:+.3} %", e)
+            }
+        }));
+        g.row(row);
+    }
+    out.push_str("\n  what moves each target (relative change):\n");
+    out.push_str(&g.render("  "));
+    out
 }

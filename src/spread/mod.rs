@@ -10,6 +10,7 @@
 //! counterpart of the stage's error, for the optimiser. The report model and renderers are in
 //! [`crate::report::spread`].
 
+pub mod circuit;
 pub mod corners;
 pub mod histogram;
 pub mod monte_carlo;

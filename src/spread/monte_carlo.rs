@@ -33,7 +33,7 @@ impl Dist {
     }
 
     /// A relative deviation within ±`tolerance`.
-    fn draw(self, rng: &mut Rng, tolerance: f64) -> f64 {
+    pub(crate) fn draw(self, rng: &mut Rng, tolerance: f64) -> f64 {
         match self {
             Dist::Uniform => tolerance * rng.symmetric(),
             // Tolerance = 3σ is the usual reading of a tolerance as a process spread (common practice, no
