@@ -103,7 +103,11 @@ pub fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
 pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let range = args.temp.as_deref().map(parse_range).transpose()?;
     let file = biasfit::design_file::load(&args.file).map_err(input)?;
-    let circuit = match (args.stage.as_deref(), file.stages.as_slice(), file.circuits.as_slice()) {
+    let circuit = match (
+        args.stage.as_deref(),
+        file.stages.as_slice(),
+        file.circuits.as_slice(),
+    ) {
         (Some(w), _, _) => match file.position(w) {
             Some(biasfit::design_file::Position::Circuit(c)) => Some(c),
             _ => None,

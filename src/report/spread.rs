@@ -419,8 +419,17 @@ fn circuit_spread(c: &SpreadCircuit) -> String {
     );
     let mut g = Grid::new(1);
     g.row([
-        "target", "aim", "as built", "mean", "sd", "builds min", "builds max", "worst low",
-        "worst high", "±10 %", "±5 %",
+        "target",
+        "aim",
+        "as built",
+        "mean",
+        "sd",
+        "builds min",
+        "builds max",
+        "worst low",
+        "worst high",
+        "±10 %",
+        "±5 %",
     ]);
     for t in &sp.targets {
         let show = |x: f64| if t.amps { amps(x) } else { volts(x) };

@@ -164,7 +164,10 @@ impl Builder<'_> {
     fn build(&self, d: &Draw) -> Option<Build> {
         let nominal: Vec<crate::units::Ohms> = self.nets.iter().map(Network::ohms).collect();
         // Models without ranges (diodes, zeners, sources, references, op-amps) as the nominal build has them.
-        let mut b = self.circuit.build(&nominal, Pick::Typ, d.temperature).ok()?;
+        let mut b = self
+            .circuit
+            .build(&nominal, Pick::Typ, d.temperature)
+            .ok()?;
         let mut members = d.resistors.iter().copied();
         let slot_ohms: Vec<f64> = self
             .nets
@@ -288,7 +291,12 @@ pub fn spread_circuit(
     let mut measure = |d: &Draw| -> Option<Vec<f64>> {
         let build = b.build(d)?;
         let s = solver.solve(&build, &quiet).ok()?;
-        Some(c.targets.iter().map(|t| c.measure(t.quantity, &s)).collect())
+        Some(
+            c.targets
+                .iter()
+                .map(|t| c.measure(t.quantity, &s))
+                .collect(),
+        )
     };
     let centre = Draw {
         resistors: vec![0.0; nr],
