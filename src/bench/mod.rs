@@ -18,6 +18,7 @@
 //!
 //! Relies on [`crate::stage`] (the solve) and [`faults`] (what each fault does).
 
+pub mod circuit;
 pub mod faults;
 
 pub use faults::{Fault, Nodes, Place};
@@ -245,21 +246,33 @@ pub fn deviation(measured: f64, predicted: f64) -> f64 {
 
 /// How well predicted node voltages match the readings (see the module notes), 0 to 1.
 pub fn score(measured: &Measured, predicted: &Nodes) -> f64 {
-    let p = node_array(predicted);
-    let mut sum = 0.0;
-    let mut n = 0usize;
-    for (m, p) in measured.as_array().iter().zip(p) {
-        if let Some(m) = m {
-            let sigma = 0.05 * m.abs().max(p.abs()) + 0.05;
-            let e = (m - p) / sigma;
-            sum += if e.is_finite() { e * e } else { 1e6 };
-            n += 1;
-        }
-    }
-    if n == 0 {
+    let pairs: Vec<(f64, f64)> = measured
+        .as_array()
+        .iter()
+        .zip(node_array(predicted))
+        .filter_map(|(m, p)| m.map(|m| (m, p)))
+        .collect();
+    score_pairs(&pairs)
+}
+
+/// How well predictions match readings, as (measured, predicted) pairs (see the module notes), 0 to 1.
+pub fn score_pairs(pairs: &[(f64, f64)]) -> f64 {
+    if pairs.is_empty() {
         return 0.0;
     }
-    (-0.5 * sum / n as f64).exp()
+    let sum: f64 = pairs
+        .iter()
+        .map(|(m, p)| {
+            let sigma = 0.05 * m.abs().max(p.abs()) + 0.05;
+            let e = (m - p) / sigma;
+            if e.is_finite() {
+                e * e
+            } else {
+                1e6
+            }
+        })
+        .sum();
+    (-0.5 * sum / pairs.len() as f64).exp()
 }
 
 /// The weighted misfit used to estimate beta: the readings' differences over a meter's resolution, 0.5 %

@@ -418,3 +418,226 @@ pub fn heading(stage: &Stage, nets: &SlotNetworks) -> String {
         parts.join(" ")
     )
 }
+
+/// One reading of a circuit, as reported.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CircuitReadingReport {
+    /// The node.
+    pub node: String,
+    /// Volts read, from ground.
+    pub measured: f64,
+    /// Volts the design predicts, from ground.
+    pub predicted: f64,
+    /// Relative deviation (with the 0.1 V floor).
+    pub deviation: f64,
+}
+
+/// One explanation of a circuit's readings, as reported.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CircuitExplanationReport {
+    /// The part.
+    pub part: String,
+    /// "open", "short", "value", "low gain" or "reversed".
+    pub fault: &'static str,
+    /// The fault in words.
+    pub description: String,
+    /// The fitted value: ohms for a wrong value, beta for low gain.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub fitted: Option<f64>,
+    /// How well it matches, 0 to 1.
+    pub score: f64,
+    /// What it predicts at each read node, volts from ground.
+    pub predicted: super::circuit::Named<f64>,
+}
+
+/// A circuit's verification: `{"name", "verdict", "readings", "as_built_score", "explanations"}`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CircuitVerifyReport {
+    /// The circuit's name.
+    pub name: String,
+    /// "good", "acceptable" or "fault".
+    pub verdict: &'static str,
+    /// Each reading.
+    pub readings: Vec<CircuitReadingReport>,
+    /// How well the circuit as designed matches the readings, 0 to 1.
+    pub as_built_score: f64,
+    /// Faults that match better than the design, best first.
+    pub explanations: Vec<CircuitExplanationReport>,
+    /// When the best explanations tie: the node to read next, and what each would read there.
+    #[serde(skip_serializing_if = "Option::is_none")]
+    pub next_reading: Option<NextReadingReport>,
+}
+
+/// The reading that settles a tie.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct NextReadingReport {
+    /// The node to read.
+    pub node: String,
+    /// Each tied explanation (its description) and its prediction there, volts from ground.
+    pub predictions: super::circuit::Named<f64>,
+}
+
+/// The JSON of `verify` on a circuit: `{"circuits": [...]}`.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CircuitVerifyFile {
+    /// One entry: the circuit verified.
+    pub circuits: Vec<CircuitVerifyReport>,
+}
+
+impl CircuitVerifyReport {
+    /// The report of a verification.
+    pub fn new(
+        c: &crate::circuit::Circuit,
+        v: &crate::bench::circuit::CircuitVerification,
+    ) -> CircuitVerifyReport {
+        use crate::bench::circuit::CircuitFault;
+        let names: Vec<String> = v.readings.iter().map(|r| c.nodes[r.node].clone()).collect();
+        CircuitVerifyReport {
+            name: c.name.clone(),
+            verdict: v.verdict.name(),
+            readings: v
+                .readings
+                .iter()
+                .zip(&v.predicted)
+                .zip(&v.deviations)
+                .map(|((r, p), d)| CircuitReadingReport {
+                    node: c.nodes[r.node].clone(),
+                    measured: r.volts,
+                    predicted: *p,
+                    deviation: *d,
+                })
+                .collect(),
+            as_built_score: v.as_built_score,
+            explanations: v
+                .explanations
+                .iter()
+                .map(|e| CircuitExplanationReport {
+                    part: e.fault.part().to_string(),
+                    fault: e.fault.kind(),
+                    description: e.fault.describe(),
+                    fitted: match e.fault {
+                        CircuitFault::Value(_, r) => Some(r.0),
+                        CircuitFault::LowGain(_, b) => Some(b),
+                        _ => None,
+                    },
+                    score: e.score,
+                    predicted: super::circuit::Named(
+                        names
+                            .iter()
+                            .cloned()
+                            .zip(e.predicted.iter().copied())
+                            .collect(),
+                    ),
+                })
+                .collect(),
+            next_reading: v.next.as_ref().map(|n| NextReadingReport {
+                node: c.nodes[n.node].clone(),
+                predictions: super::circuit::Named(
+                    n.predictions
+                        .iter()
+                        .map(|(f, v)| (f.describe(), *v))
+                        .collect(),
+                ),
+            }),
+        }
+    }
+
+    /// Whether a reading is beyond ±10 %.
+    pub fn is_fault(&self) -> bool {
+        self.verdict == "fault"
+    }
+}
+
+/// A circuit's verification for people: each reading against the design, the verdict and the faults that
+/// explain the readings better.
+pub fn render_circuit(r: &CircuitVerifyReport, built: &str) -> String {
+    let mut out = String::new();
+    let _ = writeln!(out, "verify circuit \"{}\", built with {built}", r.name);
+    out.push_str("  (volts from ground, as a meter reads them)\n\n");
+    let mut rows = vec![vec![
+        "node".to_string(),
+        "expected".into(),
+        "measured".into(),
+        "deviation".into(),
+        String::new(),
+    ]];
+    for x in &r.readings {
+        rows.push(vec![
+            x.node.clone(),
+            volts(x.predicted),
+            volts(x.measured),
+            percent(x.deviation),
+            judge(x.deviation).to_string(),
+        ]);
+    }
+    out.push_str(&columns(&rows, 1, "  "));
+    out.push('\n');
+    let worst = r
+        .readings
+        .iter()
+        .max_by(|a, b| a.deviation.abs().total_cmp(&b.deviation.abs()));
+    match (r.verdict, worst) {
+        ("good", _) => out.push_str("  verdict: good (every reading within ±5 % of the design)\n"),
+        ("acceptable", _) => {
+            out.push_str("  verdict: acceptable (every reading within ±10 % of the design)\n")
+        }
+        (_, Some(w)) => {
+            let _ = writeln!(
+                out,
+                "  verdict: fault ({} is {} {}, beyond ±10 %)",
+                w.node,
+                percent(w.deviation.abs()).trim_start_matches('+'),
+                if w.deviation < 0.0 { "low" } else { "high" }
+            );
+        }
+        _ => out.push_str("  verdict: fault\n"),
+    }
+    let _ = writeln!(
+        out,
+        "  as designed, the readings match {}",
+        match_percent(r.as_built_score)
+    );
+    if r.explanations.is_empty() {
+        if r.verdict == "fault" {
+            out.push_str(
+                "\n  no single fault in the catalogue explains these readings: check the supplies, the meter's \
+                 ground lead and each part's type\n",
+            );
+        }
+        return out;
+    }
+    out.push_str("\n  likely faults, best first:\n");
+    for (i, e) in r.explanations.iter().enumerate() {
+        let _ = writeln!(
+            out,
+            "  {}. {:>5}  {}",
+            i + 1,
+            match_percent(e.score),
+            e.description
+        );
+        let reads: Vec<String> = e
+            .predicted
+            .0
+            .iter()
+            .map(|(n, v)| format!("{n} {}", volts(*v)))
+            .collect();
+        let _ = writeln!(out, "             would read {}", reads.join(", "));
+    }
+    if let Some(n) = &r.next_reading {
+        let _ = writeln!(
+            out,
+            "\n  these tie on the readings so far; read {} next (from ground):",
+            n.node
+        );
+        for (what, v) in &n.predictions.0 {
+            let _ = writeln!(out, "    {:>9}  if {what}", volts(*v));
+        }
+    } else if r.explanations.len() > 1 && r.explanations[1].score >= r.explanations[0].score - 0.05
+    {
+        out.push_str(
+            "\n  these tie on the readings so far, and no other node voltage tells them apart: lift one end \
+             of each resistor named and measure it out of circuit, and try each transistor named on a tester\n",
+        );
+    }
+    out
+}
