@@ -283,3 +283,35 @@ fn the_console_check_catches_a_script_error() {
     assert!(problems.iter().any(|l| l.contains("planted")), "{log}");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn the_circuit_build_sheet_loads_cleanly_and_renders() {
+    let Some(browser) = chromium() else { return };
+    let dir = scratch("circuit-html");
+    let html = dir.join("tail-pair.html");
+    let out = biasfit(&[
+        "check",
+        "examples/starters/tail-pair.toml",
+        "--use",
+        "RT=7k5",
+        "--html",
+        html.to_str().unwrap(),
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let shot = dir.join("sheet.png");
+    let log = run_chromium(
+        browser,
+        &html,
+        &[
+            format!("--screenshot={}", shot.display()),
+            "--window-size=900,1400".into(),
+        ],
+    );
+    assert_eq!(
+        console_problems(&log),
+        Vec::<String>::new(),
+        "console output"
+    );
+    assert!(inked_share(&shot) > 0.01, "the screenshot looks blank");
+    let _ = std::fs::remove_dir_all(&dir);
+}

@@ -232,3 +232,61 @@ fn stage_commands_on_a_circuit_only_file_say_what_reads_circuits() {
         "{err}"
     );
 }
+
+#[test]
+fn the_circuit_build_sheet_holds_every_node_part_target_and_check() {
+    let dir = std::env::temp_dir().join(format!("biasfit-csheet-{}", std::process::id()));
+    std::fs::create_dir_all(&dir).unwrap();
+    let html = dir.join("switch.html");
+    let out = biasfit(&[
+        "check",
+        "examples/starters/switch.toml",
+        "--use",
+        "RB=1k3",
+        "--html",
+        html.to_str().unwrap(),
+        "--json",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let c = &v["circuits"][0];
+    let page = std::fs::read_to_string(&html).unwrap();
+    // Well-formed enough for an XML parser once the doctype is set aside (every tag closed).
+    let body = page.trim_start_matches("<!DOCTYPE html>\n");
+    let xml = body
+        .replace("<meta charset=\"utf-8\">", "<meta charset=\"utf-8\"/>")
+        .replace("initial-scale=1\">", "initial-scale=1\"/>");
+    let doc = roxmltree::Document::parse(&xml).unwrap_or_else(|e| panic!("{e}"));
+    let text: String = doc
+        .descendants()
+        .filter_map(|n| n.text())
+        .collect::<Vec<_>>()
+        .join("|");
+    for node in c["nodes"].as_object().unwrap().keys() {
+        assert!(text.contains(node.as_str()), "node {node} missing");
+    }
+    for part in c["parts"].as_object().unwrap().keys() {
+        assert!(text.contains(part.as_str()), "part {part} missing");
+    }
+    for k in c["checks"].as_array().unwrap() {
+        assert!(
+            text.contains(k["name"].as_str().unwrap()),
+            "check {k} missing"
+        );
+    }
+    assert!(
+        text.contains("Expected readings") && text.contains("50 V DC"),
+        "{text}"
+    );
+    let svg = biasfit(&[
+        "check",
+        "examples/starters/switch.toml",
+        "--use",
+        "RB=1k3",
+        "--svg",
+        dir.to_str().unwrap(),
+    ]);
+    assert_eq!(svg.status.code(), Some(2));
+    assert!(stderr(&svg).contains("--html FILE writes the circuit's build sheet"));
+    let _ = std::fs::remove_dir_all(&dir);
+}

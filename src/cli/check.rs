@@ -262,16 +262,20 @@ fn check_circuit(
     out: &mut Out,
 ) -> Result<(), Failure> {
     let nets = circuit_networks(c, &args.slots, tol, watts)?;
-    if args.drawings.wanted() {
+    if args.drawings.svg.is_some() {
         return Err(Failure::Input(format!(
-            "circuit \"{}\": the drawings and the build sheet are made for [[stage]] tables only so far; leave out --svg and --html",
+            "circuit \"{}\": --svg draws stages only so far; --html FILE writes the circuit's build sheet",
             c.name
         )));
     }
-    let report = Report::of(
-        Vec::new(),
-        vec![CircuitReport::new(c, &nets).map_err(super::input)?],
-    );
+    let circuit = CircuitReport::new(c, &nets).map_err(super::input)?;
+    let report = Report::of(Vec::new(), vec![circuit.clone()]);
+    if let Some(path) = &args.drawings.html {
+        let title = format!("{} ({})", c.name, args.file.display());
+        let page = biasfit::report::html::circuit_sheet(&title, &circuit, &report.cautions);
+        super::output::write_atomic(path, page.as_bytes())?;
+        super::output::note(&format!("wrote {}", path.display()));
+    }
     if args.json {
         out.json(&report)?;
     } else {

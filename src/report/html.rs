@@ -438,13 +438,15 @@ pub fn build_sheet(
         );
     }
     out.push_str("</tbody></table>\n</section>\n");
-    out.push_str(
-        "<footer>biasfit does arithmetic; it does not make a circuit safe. Parts run near their rating get hot; \
-         supplies of 50 V DC or more, and anything mains-powered, are for people trained and licensed for them. \
-         Follow your local electrical codes.</footer>\n</body>\n</html>\n",
-    );
+    out.push_str(FOOTER);
+    out.push_str("</body>\n</html>\n");
     out
 }
+
+/// The safety note at the foot of every build sheet.
+const FOOTER: &str = "<footer>biasfit does arithmetic; it does not make a circuit safe. Parts run near their rating get hot; \
+     supplies of 50 V DC or more, and anything mains-powered, are for people trained and licensed for them. \
+     Follow your local electrical codes.</footer>\n";
 
 #[cfg(test)]
 mod tests {
@@ -520,4 +522,164 @@ mod tests {
         // The drawings are inline.
         assert_eq!(html.matches("<svg ").count(), 2);
     }
+}
+
+/// The build sheet of a circuit of the user's own: the parts to fit, the readings to expect from real
+/// ground, every part at the operating point, the targets and the checks, as plain tables.
+pub fn circuit_sheet(
+    title: &str,
+    c: &super::circuit::CircuitReport,
+    cautions: &[String],
+) -> String {
+    let mut out = String::new();
+    let all_ok = c.all_ok();
+    let _ = write!(
+        out,
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" \
+         content=\"width=device-width, initial-scale=1\">\n<title>Build sheet: {}</title>\n<style>{STYLE}</style>\n\
+         </head>\n<body>\n<header class=\"sheet\"><h1>Build sheet</h1><p class=\"sub\">{} · circuit · made by \
+         biasfit {}</p></header>\n",
+        e(title),
+        e(title),
+        env!("CARGO_PKG_VERSION"),
+    );
+    for k in cautions {
+        let _ = writeln!(
+            out,
+            "<p class=\"caution\"><strong>Caution.</strong> {}</p>",
+            e(k)
+        );
+    }
+    let _ = writeln!(
+        out,
+        "<section class=\"stage\" id=\"circuit\">\n<h2>{}</h2>\n<p class=\"meta\">error {} · {}</p>",
+        e(&c.name),
+        trim_number(c.error * 100.0, 3) + " %",
+        if all_ok {
+            "<span class=\"badge ok\">all checks pass</span>"
+        } else {
+            "<span class=\"badge fail\">a check fails</span>"
+        }
+    );
+    out.push_str(
+        "<h3>Parts to fit</h3>\n<table><thead><tr><th>slot</th><th>network</th><th class=\"num\">ohms</th>\
+         <th>parts</th></tr></thead><tbody>\n",
+    );
+    for (name, p) in c.parts.0.iter().filter(|(_, p)| p.network.is_some()) {
+        let parts = p
+            .parts
+            .as_deref()
+            .unwrap_or_default()
+            .iter()
+            .map(|m| {
+                let at = m
+                    .location
+                    .as_deref()
+                    .map(|l| format!(" @{}", e(l)))
+                    .unwrap_or_default();
+                format!(
+                    "{} {} {}{at}",
+                    code(Ohms(m.ohms)),
+                    crate::units::Tolerance(m.tolerance),
+                    crate::notation::engineering(m.power, "W")
+                )
+            })
+            .collect::<Vec<_>>()
+            .join(", ");
+        let _ = writeln!(
+            out,
+            "<tr><td>{}</td><td>{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
+            e(name),
+            e(p.network.as_deref().unwrap_or("")),
+            code(Ohms(p.ohms.unwrap_or(f64::NAN))),
+            parts
+        );
+    }
+    out.push_str("</tbody></table>\n");
+    out.push_str(
+        "<h3>Expected readings</h3>\n<p class=\"meta\">volts from ground, as a meter reads them, at typical \
+         parameters</p>\n<table><thead><tr><th>node</th><th class=\"num\">from ground</th><th>measured</th></tr>\
+         </thead><tbody>\n",
+    );
+    for (n, v) in &c.nodes.0 {
+        let _ = writeln!(
+            out,
+            "<tr><td>{}</td><td class=\"num\">{}</td><td></td></tr>",
+            e(n),
+            volts(*v)
+        );
+    }
+    out.push_str("</tbody></table>\n");
+    out.push_str(
+        "<h3>Parts at the operating point</h3>\n<table><thead><tr><th>part</th><th>kind</th><th>region</th>\
+         <th class=\"num\">current</th><th class=\"num\">across</th><th class=\"num\">power</th></tr></thead><tbody>\n",
+    );
+    for (n, p) in &c.parts.0 {
+        let _ = writeln!(
+            out,
+            "<tr><td>{}</td><td>{}</td><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td \
+             class=\"num\">{}</td></tr>",
+            e(n),
+            e(p.kind),
+            e(p.region.unwrap_or("")),
+            amps(p.current),
+            volts(p.across),
+            crate::notation::engineering(p.power, "W")
+        );
+    }
+    out.push_str("</tbody></table>\n");
+    if !c.targets.is_empty() {
+        out.push_str(
+            "<h3>Targets</h3>\n<table><thead><tr><th>target</th><th class=\"num\">aim</th><th \
+             class=\"num\">actual</th><th class=\"num\">deviation</th></tr></thead><tbody>\n",
+        );
+        for t in &c.targets {
+            let show = |x: f64| if t.amps { amps(x) } else { volts(x) };
+            let _ = writeln!(
+                out,
+                "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td></tr>",
+                e(&t.what),
+                show(t.target),
+                show(t.actual),
+                signed_percent(t.deviation)
+            );
+        }
+        out.push_str("</tbody></table>\n");
+    }
+    if let Some(parts) = &c.latch {
+        let _ = writeln!(
+            out,
+            "<p class=\"caution\"><strong>More than one operating point.</strong> {} can settle in another \
+             region; the circuit may latch.</p>",
+            e(&parts.join(", "))
+        );
+    }
+    out.push_str(
+        "<h3>Checks</h3>\n<table><thead><tr><th>check</th><th class=\"num\">value</th><th \
+         class=\"num\">limit</th><th></th></tr></thead><tbody>\n",
+    );
+    for k in &c.checks {
+        let limit = if k.unit == crate::stage::CheckUnit::Flag {
+            "required".to_string()
+        } else {
+            format!(
+                "{} {}",
+                if k.at_least { "≥" } else { "≤" },
+                check_value(k, k.limit)
+            )
+        };
+        let _ = writeln!(
+            out,
+            "<tr><td>{}</td><td class=\"num\">{}</td><td class=\"num\">{}</td><td class=\"{}\">{}</td></tr>",
+            e(&k.name),
+            e(&check_value(k, k.value)),
+            e(&limit),
+            if k.ok { "ok" } else { "fail" },
+            if k.ok { "ok" } else { "FAIL" }
+        );
+    }
+    out.push_str("</tbody></table>\n</section>\n");
+    out.push_str(FOOTER);
+    out.push_str("</body>\n</html>\n");
+    out
 }
