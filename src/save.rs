@@ -43,6 +43,14 @@ pub enum SaveError {
         /// The file.
         file: String,
     },
+    /// Another run holds the file's lock and did not let go in time.
+    #[error("{file}: another biasfit has been changing this file for {seconds} s (it holds the file's lock); nothing was written; run the command again once it has finished")]
+    Busy {
+        /// The file.
+        file: String,
+        /// How long this run waited.
+        seconds: u64,
+    },
     /// A test hook stopped the write.
     #[error("{file}: the write was stopped after {bytes} bytes ({FAIL_AFTER_ENV} is set); the file was left as it was")]
     Injected {
@@ -105,6 +113,94 @@ pub fn leftovers(path: &Path) -> Vec<PathBuf> {
         .collect();
     found.sort();
     found
+}
+
+/// How long a command waits for another biasfit to finish with a stock file before giving up.
+pub const LOCK_WAIT: Duration = Duration::from_secs(10);
+
+/// An advisory lock on a file being edited, held from before it is read until after it is replaced, so
+/// that two biasfit runs on one stock file take turns instead of one losing the other's update. Dropping it
+/// releases the lock. Programs that take no lock (an editor, a script) are caught by the second line of
+/// defence instead: [`Saver::replace`] refuses when the file no longer holds what was read.
+#[derive(Debug)]
+pub struct EditLock {
+    /// The locked file; none when there was nothing to lock (the read will say why).
+    _file: Option<File>,
+}
+
+/// Takes the advisory lock on `path` for a read-modify-write, waiting at most `wait` for another holder.
+///
+/// The lock is on the file itself (flock on unix), so no lock file is left beside it. A replace renames a new
+/// file over the old one, so a run that waited on the old one finds, once it holds the lock, that the
+/// name now points at another file, and locks that one instead. A path that is not a regular file gets no
+/// lock: reading it fails with the usual message. Where locks are not available (Windows, whose locks also
+/// stop reads, or a file system without them) the compare before the rename is the only defence.
+pub fn lock_for_edit(path: &Path, wait: Duration) -> Result<EditLock, SaveError> {
+    let file = path.display().to_string();
+    let target = resolve(path);
+    let started = std::time::Instant::now();
+    loop {
+        let Ok(meta) = std::fs::metadata(&target) else {
+            return Ok(EditLock { _file: None });
+        };
+        if !meta.is_file() || cfg!(not(unix)) {
+            return Ok(EditLock { _file: None });
+        }
+        let f = OpenOptions::new()
+            .read(true)
+            .open(&target)
+            .map_err(|source| SaveError::Io {
+                file: file.clone(),
+                action: "open it to lock it".into(),
+                source,
+            })?;
+        loop {
+            match f.try_lock() {
+                Ok(()) => break,
+                Err(std::fs::TryLockError::WouldBlock) => {
+                    if started.elapsed() >= wait {
+                        return Err(SaveError::Busy {
+                            file,
+                            seconds: wait.as_secs(),
+                        });
+                    }
+                    std::thread::sleep(Duration::from_millis(2));
+                }
+                Err(std::fs::TryLockError::Error(e))
+                    if e.kind() == std::io::ErrorKind::Unsupported =>
+                {
+                    return Ok(EditLock { _file: None });
+                }
+                Err(std::fs::TryLockError::Error(source)) => {
+                    return Err(SaveError::Io {
+                        file,
+                        action: "lock it".into(),
+                        source,
+                    })
+                }
+            }
+        }
+        if same_file(&f, &target) {
+            return Ok(EditLock { _file: Some(f) });
+        }
+        // Replaced while we waited: the lock we hold is on the old file; start again on the new one.
+    }
+}
+
+/// Whether the open file `f` is still the one `path` names.
+#[cfg(unix)]
+fn same_file(f: &File, path: &Path) -> bool {
+    use std::os::unix::fs::MetadataExt;
+    match (f.metadata(), std::fs::metadata(path)) {
+        (Ok(a), Ok(b)) => a.dev() == b.dev() && a.ino() == b.ino(),
+        _ => false,
+    }
+}
+
+/// Without file identities, trust the name.
+#[cfg(not(unix))]
+fn same_file(_f: &File, _path: &Path) -> bool {
+    true
 }
 
 impl Saver {

@@ -140,6 +140,17 @@ pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
     }
 }
 
+/// Takes the stock file's lock for the whole read-modify-write (none for a dry run, which writes nothing), so
+/// that a second take or add waits for this one instead of overwriting it.
+fn lock(path: &Path, args: &EditArgs) -> Result<Option<save::EditLock>, Failure> {
+    if args.dry_run {
+        return Ok(None);
+    }
+    save::lock_for_edit(path, save::LOCK_WAIT)
+        .map(Some)
+        .map_err(|e| Failure::Io(e.to_string()))
+}
+
 /// Loads a stock file for editing, and says if an interrupted write left a temporary file beside it.
 fn load_for_edit(path: &Path, defaults: &DefaultArgs) -> Result<StockFile, Failure> {
     let sf = StockFile::load(path, defaults.resolve()?).map_err(input)?;
@@ -208,6 +219,7 @@ fn finish(
 
 /// Runs `biasfit stock take`.
 fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
+    let _lock = lock(&args.stock, &args.edit)?;
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let result = stocktake::load_result(&args.result).map_err(refused)?;
     let picks = result
@@ -220,6 +232,7 @@ fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
 /// Runs `biasfit stock add`.
 fn add(args: AddArgs, out: &mut Out) -> Result<(), Failure> {
     let defaults = args.edit.defaults.resolve()?;
+    let _lock = lock(&args.stock, &args.edit)?;
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let arrivals = orderfile::load(&args.order, defaults).map_err(input)?;
     warn_all(&arrivals.warnings);
