@@ -112,6 +112,8 @@ pub fn networks(
 
 /// Runs `biasfit check`.
 pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
+    let outputs = args.drawings.outputs(&[("design file", &args.file)]);
+    args.drawings.check(&outputs)?;
     let (tol, watts) = args.parts.resolve()?;
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
     if picked.len() > 1 {
@@ -135,7 +137,7 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
         let title = format!("{} ({})", s.name, design.file);
         for f in args
             .drawings
-            .write(&title, &sheet, &pick_list(&sheet), &report.cautions)?
+            .write(&outputs, out, &title, &sheet, &pick_list(&sheet), &report.cautions)?
         {
             super::output::note(&format!("wrote {}", f.display()));
         }

@@ -4,7 +4,7 @@
 use super::drawings::DrawingArgs;
 use super::flags::{amount, seconds, whole};
 use super::ideal::stages;
-use super::output::{warn_all, write_atomic, Progress};
+use super::output::{to_stdout, warn_all, Kind, Progress};
 use super::stock::{load as load_stock, DefaultArgs};
 use super::{Failure, Out};
 use biasfit::notation::{parse_tolerance, parse_watts, Series};
@@ -121,6 +121,18 @@ fn parse_bound(text: &str) -> Result<f64, Failure> {
 
 /// Runs `biasfit order`.
 pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
+    let mut inputs = vec![
+        ("design file", args.file.as_path()),
+        ("stock file", args.stock.as_path()),
+    ];
+    if let Some(c) = &args.catalog {
+        inputs.push(("catalogue", c.as_path()));
+    }
+    let outputs = args.drawings.outputs(&inputs);
+    args.drawings.check(&outputs)?;
+    if let Some(path) = &args.csv {
+        outputs.check("--csv", path, Kind::OrderCsv)?;
+    }
     let (design, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
     let catalogue = match &args.catalog {
@@ -192,15 +204,18 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         .pick
         .retain(|p| p.location.as_deref() != Some("to buy"));
     if let Some(path) = &args.csv {
-        write_atomic(path, render_csv(&outcome.lines).as_bytes())?;
-        super::output::note(&format!("wrote {}", path.display()));
+        let csv = render_csv(&outcome.lines);
+        outputs.write("--csv", path, Kind::OrderCsv, csv.as_bytes(), out)?;
+        if !to_stdout(path) {
+            super::output::note(&format!("wrote {}", path.display()));
+        }
     }
     if args.drawings.wanted() {
         let sheet = super::design::sheet(&design, &outcome.built);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
         for f in args
             .drawings
-            .write(&title, &sheet, &report.pick, &report.cautions)?
+            .write(&outputs, out, &title, &sheet, &report.pick, &report.cautions)?
         {
             super::output::note(&format!("wrote {}", f.display()));
         }

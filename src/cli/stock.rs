@@ -32,9 +32,9 @@ pub struct StockArgs {
 /// What to do to a stock file other than summarise it.
 #[derive(Debug, Subcommand)]
 pub enum StockAction {
-    /// Subtract the parts a design used (keeps STOCK.bak, then rewrites only the qty fields)
+    /// Subtract the parts a design used (keeps STOCK.bak.1, then rewrites only the qty fields)
     Take(TakeArgs),
-    /// Add the parts that arrived, from an order file (keeps STOCK.bak)
+    /// Add the parts that arrived, from an order file (keeps STOCK.bak.1)
     Add(AddArgs),
 }
 
@@ -200,6 +200,7 @@ fn finish(
         let done = Saver::with_test_hooks_from_env()
             .replace(path, &sf.bytes, &edit.contents)
             .map_err(|e| Failure::Io(e.to_string()))?;
+        warn_all(&done.notes);
         backup = Some(done.backup.display().to_string());
     }
     if args.json {
