@@ -17,7 +17,7 @@ pub struct DrawingArgs {
     /// Write each stage's load line and schematic as SVG files into this folder (made if missing)
     #[arg(long, value_name = "DIR")]
     pub svg: Option<PathBuf>,
-    /// Write a self-contained HTML build sheet (drawings inline, prints on A4) to this file
+    /// Write a self-contained HTML build sheet (drawings inline, prints on A4) to this file (- for standard output)
     #[arg(long, value_name = "FILE")]
     pub html: Option<PathBuf>,
     /// Replace an existing output file that biasfit did not write (an input is never replaced)

@@ -68,7 +68,7 @@ pub struct OrderArgs {
     /// Stop after this many seconds with the best purchase found
     #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
     pub time_limit: Option<Duration>,
-    /// Write the order list to this CSV file (what `stock add --order` reads)
+    /// Write the order list to this CSV file (what `stock add --order` reads; - for standard output)
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
     #[command(flatten)]
