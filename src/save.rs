@@ -123,10 +123,7 @@ pub fn backup_path(path: &Path, n: u32) -> PathBuf {
 /// inode on unix; elsewhere its canonical path, which catches the same name spelled differently but not a
 /// hard link.
 #[derive(Clone, Debug, PartialEq, Eq)]
-pub struct FileId(
-    #[cfg(unix)] (u64, u64),
-    #[cfg(not(unix))] PathBuf,
-);
+pub struct FileId(#[cfg(unix)] (u64, u64), #[cfg(not(unix))] PathBuf);
 
 impl FileId {
     /// The identity of the file `path` names (following links); none when there is no such file.

@@ -72,23 +72,47 @@ fn an_output_onto_an_input_is_refused_by_identity() {
             "--html d.toml: that is the design file",
         ),
         (
-            vec!["check", "d.toml", "--use", "R1=33k,R2=6k8,RC=2k7,RE=560R", "--svg", "d.toml"],
+            vec![
+                "check",
+                "d.toml",
+                "--use",
+                "R1=33k,R2=6k8,RC=2k7,RE=560R",
+                "--svg",
+                "d.toml",
+            ],
             "--svg d.toml: that is the design file",
         ),
         (
             vec![
-                "order", "d.toml", "--stock", "hd.csv", "--catalog", "hd.csv", "--html", "hd.csv",
+                "order",
+                "d.toml",
+                "--stock",
+                "hd.csv",
+                "--catalog",
+                "hd.csv",
+                "--html",
+                "hd.csv",
             ],
             "that is the stock file",
         ),
     ];
     if cfg!(unix) {
         cases.push((
-            vec!["design", "d.toml", "--stock", "hd.csv", "--html", "link.csv"],
+            vec![
+                "design", "d.toml", "--stock", "hd.csv", "--html", "link.csv",
+            ],
             "--html link.csv: that is the stock file (hd.csv)",
         ));
         cases.push((
-            vec!["design", "d.toml", "--stock", "hd.csv", "--html", "hard.toml", "--force"],
+            vec![
+                "design",
+                "d.toml",
+                "--stock",
+                "hd.csv",
+                "--html",
+                "hard.toml",
+                "--force",
+            ],
             "--html hard.toml: that is the design file (d.toml)",
         ));
     }
@@ -96,7 +120,10 @@ fn an_output_onto_an_input_is_refused_by_identity() {
         let o = run(&dir, &args);
         let e = err(&o);
         assert_eq!(o.status.code(), Some(2), "{args:?}: {e}");
-        assert!(e.starts_with("error: ") && e.contains(want), "{args:?}: {e}");
+        assert!(
+            e.starts_with("error: ") && e.contains(want),
+            "{args:?}: {e}"
+        );
         assert!(e.contains("nothing was written"), "{e}");
         assert_eq!(e.lines().count(), 1, "{e}");
         assert!(o.stdout.is_empty(), "{args:?}: refused before any work");
@@ -108,7 +135,14 @@ fn an_output_onto_an_input_is_refused_by_identity() {
 fn a_file_biasfit_did_not_write_is_replaced_only_with_force() {
     let dir = scratch("force");
     std::fs::write(dir.join("notes.txt"), "my own notes\n").unwrap();
-    let args = ["design", "d.toml", "--stock", "hd.csv", "--html", "notes.txt"];
+    let args = [
+        "design",
+        "d.toml",
+        "--stock",
+        "hd.csv",
+        "--html",
+        "notes.txt",
+    ];
     let o = run(&dir, &args);
     assert_eq!(o.status.code(), Some(2), "{}", err(&o));
     assert!(
@@ -143,7 +177,15 @@ fn files_biasfit_wrote_are_replaced_without_a_question() {
     // An empty file (as `touch` or `mktemp` leaves) holds nothing to lose.
     std::fs::write(dir.join("sheet.html"), "").unwrap();
     let args = [
-        "order", "d.toml", "--stock", "hd.csv", "--csv", "o.csv", "--html", "sheet.html", "--svg",
+        "order",
+        "d.toml",
+        "--stock",
+        "hd.csv",
+        "--csv",
+        "o.csv",
+        "--html",
+        "sheet.html",
+        "--svg",
         "svg",
     ];
     for round in 0..2 {
@@ -151,11 +193,17 @@ fn files_biasfit_wrote_are_replaced_without_a_question() {
         assert_eq!(o.status.code(), Some(0), "round {round}: {}", err(&o));
     }
     let csv = std::fs::read_to_string(dir.join("o.csv")).unwrap();
-    assert!(csv.starts_with("value,tolerance,power,qty,packs,cost\n"), "{csv}");
+    assert!(
+        csv.starts_with("value,tolerance,power,qty,packs,cost\n"),
+        "{csv}"
+    );
     let html = std::fs::read_to_string(dir.join("sheet.html")).unwrap();
     assert!(html.contains("<meta name=\"generator\" content=\"biasfit\">"));
     let svg = std::fs::read_to_string(dir.join("svg/line-driver-schematic.svg")).unwrap();
-    assert!(svg.starts_with("<!-- written by biasfit -->\n<svg "), "{svg}");
+    assert!(
+        svg.starts_with("<!-- written by biasfit -->\n<svg "),
+        "{svg}"
+    );
     // The mark is a comment: the file is still one SVG document.
     roxmltree::Document::parse(&svg).unwrap();
 }
@@ -167,30 +215,69 @@ fn devices_fifos_and_stdout_are_written_to_not_replaced() {
     let dir = scratch("devices");
     let o = run(
         &dir,
-        &["design", "d.toml", "--stock", "hd.csv", "--html", "/dev/null"],
+        &[
+            "design",
+            "d.toml",
+            "--stock",
+            "hd.csv",
+            "--html",
+            "/dev/null",
+        ],
     );
     assert_eq!(o.status.code(), Some(0), "{}", err(&o));
     let t = std::fs::metadata("/dev/null").unwrap().file_type();
     assert!(t.is_char_device(), "/dev/null is no longer a device");
 
     if Path::new("/dev/full").exists() {
-        let o = run(&dir, &["order", "d.toml", "--stock", "hd.csv", "--csv", "/dev/full"]);
+        let o = run(
+            &dir,
+            &["order", "d.toml", "--stock", "hd.csv", "--csv", "/dev/full"],
+        );
         assert_eq!(o.status.code(), Some(4), "{}", err(&o));
-        assert!(err(&o).contains("/dev/full: cannot write to it"), "{}", err(&o));
+        assert!(
+            err(&o).contains("/dev/full: cannot write to it"),
+            "{}",
+            err(&o)
+        );
         assert!(std::fs::metadata("/dev/full")
             .unwrap()
             .file_type()
             .is_char_device());
     }
 
-    // `-` and /dev/stdout: the order list goes to standard output, before the report.
+    // `-` and /dev/stdout: standard output holds the order list alone, with no report after it, so it
+    // can be redirected to a file that `stock add` reads.
     for dash in ["-", "/dev/stdout"] {
-        let o = run(&dir, &["order", "d.toml", "--stock", "hd.csv", "--csv", dash]);
+        let o = run(
+            &dir,
+            &["order", "d.toml", "--stock", "hd.csv", "--csv", dash],
+        );
         assert_eq!(o.status.code(), Some(0), "{}", err(&o));
         let out = String::from_utf8(o.stdout).unwrap();
-        assert!(out.starts_with("value,tolerance,power,qty,packs,cost\n"), "{out}");
-        assert!(out.contains("order: the cheapest purchase"), "{out}");
+        assert!(
+            out.starts_with("value,tolerance,power,qty,packs,cost\n"),
+            "{out}"
+        );
+        assert!(!out.contains("order: the cheapest purchase"), "{out}");
     }
+    let o = run(
+        &dir,
+        &["design", "d.toml", "--stock", "hd.csv", "--html", "-"],
+    );
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let out = String::from_utf8(o.stdout).unwrap();
+    assert!(
+        out.starts_with("<!DOCTYPE html>") && out.trim_end().ends_with("</html>"),
+        "{out}"
+    );
+    let o = run(
+        &dir,
+        &[
+            "order", "d.toml", "--stock", "hd.csv", "--csv", "-", "--html", "-",
+        ],
+    );
+    assert_eq!(o.status.code(), Some(2), "{}", err(&o));
+    assert!(o.stdout.is_empty());
 
     // A FIFO gets the contents and stays a FIFO.
     let fifo = dir.join("pipe");
@@ -200,10 +287,16 @@ fn devices_fifos_and_stdout_are_written_to_not_replaced() {
             let fifo = fifo.clone();
             std::thread::spawn(move || std::fs::read_to_string(fifo).unwrap())
         };
-        let o = run(&dir, &["order", "d.toml", "--stock", "hd.csv", "--csv", "pipe"]);
+        let o = run(
+            &dir,
+            &["order", "d.toml", "--stock", "hd.csv", "--csv", "pipe"],
+        );
         assert_eq!(o.status.code(), Some(0), "{}", err(&o));
         let got = reader.join().unwrap();
-        assert!(got.starts_with("value,tolerance,power,qty,packs,cost\n"), "{got}");
+        assert!(
+            got.starts_with("value,tolerance,power,qty,packs,cost\n"),
+            "{got}"
+        );
         assert!(std::fs::metadata(&fifo).unwrap().file_type().is_fifo());
     }
 }

@@ -142,7 +142,11 @@ fn a_rewritten_stock_keeps_its_mode_and_says_when_its_owner_changed() {
     assert_eq!(o.status.code(), Some(0), "{}", err(&o));
     let m = std::fs::metadata(&stock).unwrap();
     assert_eq!(m.permissions().mode() & 0o777, 0o666);
-    assert!(err(&o).is_empty(), "nothing to say when the owner is kept: {}", err(&o));
+    assert!(
+        err(&o).is_empty(),
+        "nothing to say when the owner is kept: {}",
+        err(&o)
+    );
 
     // As another user, rewriting a file owned by root: only root can keep the owner, so the new file is
     // the other user's, its mode is kept, and a warning says so. That needs root to set up.

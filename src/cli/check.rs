@@ -135,10 +135,14 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     if args.drawings.wanted() {
         let sheet = [SheetStage::new(s, &nets, 1)];
         let title = format!("{} ({})", s.name, design.file);
-        for f in args
-            .drawings
-            .write(&outputs, out, &title, &sheet, &pick_list(&sheet), &report.cautions)?
-        {
+        for f in args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &pick_list(&sheet),
+            &report.cautions,
+        )? {
             super::output::note(&format!("wrote {}", f.display()));
         }
     }

@@ -132,6 +132,11 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     args.drawings.check(&outputs)?;
     if let Some(path) = &args.csv {
         outputs.check("--csv", path, Kind::OrderCsv)?;
+        if to_stdout(path) && args.drawings.html.as_deref().is_some_and(to_stdout) {
+            return Err(Failure::Input(
+                "--csv - and --html -: both send a file to standard output; expected at most one there, so give the other a file name".into(),
+            ));
+        }
     }
     let (design, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
@@ -213,10 +218,14 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     if args.drawings.wanted() {
         let sheet = super::design::sheet(&design, &outcome.built);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
-        for f in args
-            .drawings
-            .write(&outputs, out, &title, &sheet, &report.pick, &report.cautions)?
-        {
+        for f in args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &report.pick,
+            &report.cautions,
+        )? {
             super::output::note(&format!("wrote {}", f.display()));
         }
     }

@@ -12,6 +12,8 @@ pub struct Out {
     sink: Box<dyn Write>,
     colour: bool,
     closed: bool,
+    /// A file went to standard output (`--csv -`): it holds that file alone, so the report is not added.
+    taken: bool,
 }
 
 impl Out {
@@ -22,6 +24,7 @@ impl Out {
             sink: Box::new(std::io::stdout().lock()),
             colour: tty && std::env::var_os("NO_COLOR").is_none(),
             closed: false,
+            taken: false,
         }
     }
 
@@ -37,6 +40,9 @@ impl Out {
 
     /// Writes text, with control characters from files shown as escapes (colour kept on a terminal).
     pub fn text(&mut self, s: &str) -> Result<(), Failure> {
+        if self.taken {
+            return Ok(());
+        }
         let s = printable(s, self.colour);
         let r = self
             .sink
@@ -51,8 +57,16 @@ impl Out {
     }
 
     /// Writes a file's bytes as they are (an output given as `-`): they are the file, not a report, and
-    /// their own renderer already made any text from files safe.
+    /// their own renderer already made any text from files safe. Standard output then holds that file
+    /// alone: the report that would follow is left out, and a second such file is refused.
     pub fn bytes(&mut self, b: &[u8]) -> Result<(), Failure> {
+        if self.taken {
+            return Err(Failure::Input(
+                "two outputs were sent to standard output (-); expected at most one, so that it holds one file"
+                    .into(),
+            ));
+        }
+        self.taken = true;
         let r = self.sink.write_all(b).and_then(|_| self.sink.flush());
         r.map_err(|e| {
             if e.kind() == std::io::ErrorKind::BrokenPipe {
@@ -136,7 +150,8 @@ impl Outputs {
             return Ok(());
         }
         let mut head = Vec::new();
-        let read = std::fs::File::open(path).and_then(|f| f.take(HEAD_BYTES).read_to_end(&mut head));
+        let read =
+            std::fs::File::open(path).and_then(|f| f.take(HEAD_BYTES).read_to_end(&mut head));
         if read.is_ok() && kind.written_by_biasfit(&head) {
             return Ok(());
         }
@@ -198,7 +213,7 @@ impl Outputs {
 }
 
 /// Whether an output path means standard output: `-`, or /dev/stdout, which is written through the
-/// process's own handle so that it follows the report instead of overwriting it.
+/// process's own handle (opening /dev/stdout anew would start at the beginning of a redirected file).
 pub fn to_stdout(path: &Path) -> bool {
     path == Path::new("-") || path == Path::new("/dev/stdout")
 }

@@ -165,9 +165,14 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let report = SpreadReport::new(results);
     if args.drawings.wanted() {
         let title = format!("{}: spread", design.file);
-        let mut written =
-            args.drawings
-                .write(&outputs, out, &title, &sheet, &pick_list(&sheet), &report.cautions)?;
+        let mut written = args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &pick_list(&sheet),
+            &report.cautions,
+        )?;
         if let Some(dir) = &args.drawings.svg {
             let path = dir.join("histograms.svg");
             let svg = render_spread_svg(&report);

@@ -237,8 +237,7 @@ pub fn parse_tolerance(input: &str) -> Result<Tolerance, QuantityError> {
     let number_ok = |s: &str| {
         s.starts_with(|c: char| c.is_ascii_digit() || c == '.')
             && s.chars().any(|c| c.is_ascii_digit())
-            && s
-                .chars()
+            && s.chars()
                 .all(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
     };
     let fraction: f64 = if let Some(p) = t.strip_suffix('%') {
@@ -360,7 +359,10 @@ mod tests {
         assert_eq!(parse_tolerance("0.001%").unwrap(), Tolerance(1e-5));
         for tiny in ["1e-308", "1e-308%", "0.0009%", "1e-6"] {
             let e = parse_tolerance(tiny).unwrap_err().to_string();
-            assert!(e.contains("far finer than any resistor is made"), "{tiny}: {e}");
+            assert!(
+                e.contains("far finer than any resistor is made"),
+                "{tiny}: {e}"
+            );
             assert!(e.contains("from 0.001 % to 50 %"), "{tiny}: {e}");
         }
         for bad in ["1e", "e5", "inf", "nan", "5%%"] {

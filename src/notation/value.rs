@@ -323,7 +323,11 @@ mod tests {
             ("330 \u{2126}", "330 \u{3a9}"),
             ("1 m\u{2126}", "1 m\u{3a9}"),
         ] {
-            assert_eq!(parse_ohms(sign).unwrap(), parse_ohms(letter).unwrap(), "{sign}");
+            assert_eq!(
+                parse_ohms(sign).unwrap(),
+                parse_ohms(letter).unwrap(),
+                "{sign}"
+            );
         }
         assert_eq!(parse_ohms("4k7\u{2126}").unwrap(), Ohms(4700.0));
     }

@@ -99,7 +99,9 @@ pub enum CsvError {
         example: &'static str,
     },
     /// A required column is not in the header.
-    #[error("{file}:{line}: no '{column}' column in the header ({found}){hidden}; expected {expected}")]
+    #[error(
+        "{file}:{line}: no '{column}' column in the header ({found}){hidden}; expected {expected}"
+    )]
     MissingColumn {
         /// The file.
         file: String,
@@ -324,7 +326,11 @@ fn line_of(bytes: &[u8], offset: usize) -> (usize, usize) {
 /// byte-order mark that joining two files left in the middle), so the message says what cannot be seen.
 fn hidden_column(column: &Column, fields: &[Field]) -> String {
     for f in fields {
-        let Some(c) = f.text.chars().find_map(|c| invisible_name(c).map(|n| (c, n))) else {
+        let Some(c) = f
+            .text
+            .chars()
+            .find_map(|c| invisible_name(c).map(|n| (c, n)))
+        else {
             continue;
         };
         let clean: String = f
