@@ -308,7 +308,7 @@ impl Saver {
         if let Some(m) = &was {
             may_replace(&file, &target, m)?;
         }
-        let notes = self.write_via_temp(path, &target, contents, was.as_ref(), true)?;
+        let notes = self.write_via_temp(path, &target, contents, was.as_ref(), true, &|| Ok(()))?;
         Ok(Written {
             direct: false,
             notes,
@@ -325,6 +325,18 @@ impl Saver {
         previous: &[u8],
         contents: &[u8],
     ) -> Result<Replaced, SaveError> {
+        self.replace_with(path, previous, contents, &|| {})
+    }
+
+    /// [`Saver::replace`], with `meanwhile` run after the first compare, where another program could change
+    /// the file (the tests use it to do so).
+    fn replace_with(
+        &self,
+        path: &Path,
+        previous: &[u8],
+        contents: &[u8],
+        meanwhile: &dyn Fn(),
+    ) -> Result<Replaced, SaveError> {
         let target = resolve(path);
         let file = path.display().to_string();
         let was = std::fs::metadata(&target).map_err(|source| SaveError::Io {
@@ -333,14 +345,24 @@ impl Saver {
             source,
         })?;
         may_replace(&file, &target, &was)?;
-        let now = std::fs::read(&target).map_err(|source| SaveError::Io {
-            file: file.clone(),
-            action: "read it again before replacing it".into(),
-            source,
-        })?;
-        if now != previous {
-            return Err(SaveError::Changed { file });
-        }
+        // Compared twice: first before anything is written (so a changed file leaves even the backups
+        // alone), then once more after the new contents are on the disk, just before the rename, so that
+        // the window in which a program that takes no lock can slip a change in is a read and a rename
+        // long, not two writes and their syncs.
+        let unchanged = || -> Result<(), SaveError> {
+            let now = std::fs::read(&target).map_err(|source| SaveError::Io {
+                file: file.clone(),
+                action: "read it again before replacing it".into(),
+                source,
+            })?;
+            if now == previous {
+                Ok(())
+            } else {
+                Err(SaveError::Changed { file: file.clone() })
+            }
+        };
+        unchanged()?;
+        meanwhile();
         // Beside the link's target when the path is a link; otherwise beside the path as given, so that
         // messages name it the way the user does.
         let is_link = std::fs::symlink_metadata(path).is_ok_and(|m| m.file_type().is_symlink());
@@ -352,8 +374,9 @@ impl Saver {
         })?;
         let backup = backup_path(base, 1);
         // The backup goes first: once the new contents are in place, the old ones must already be safe.
-        self.write_via_temp(&backup, &backup, previous, Some(&was), false)?;
-        let notes = self.write_via_temp(path, &target, contents, Some(&was), true)?;
+        // (Should the second compare refuse, the backup still holds a true earlier version.)
+        self.write_via_temp(&backup, &backup, previous, Some(&was), false, &|| Ok(()))?;
+        let notes = self.write_via_temp(path, &target, contents, Some(&was), true, &unchanged)?;
         Ok(Replaced { backup, notes })
     }
 
@@ -376,7 +399,8 @@ impl Saver {
 
     /// Writes `contents` to a new temporary file beside `target`, syncs it, gives it `was`'s owner and mode
     /// (the file it replaces), and renames it over `target`. `hooks` says whether the test hooks apply
-    /// (they do for new contents, not for backups). Returns what the user should be told.
+    /// (they do for new contents, not for backups); `before_rename` may still refuse once the data is on the
+    /// disk. Returns what the user should be told.
     fn write_via_temp(
         &self,
         shown: &Path,
@@ -384,6 +408,7 @@ impl Saver {
         contents: &[u8],
         was: Option<&std::fs::Metadata>,
         hooks: bool,
+        before_rename: &dyn Fn() -> Result<(), SaveError>,
     ) -> Result<Vec<String>, SaveError> {
         let file = shown.display().to_string();
         let io = |action: &str, source: std::io::Error| SaveError::Io {
@@ -441,6 +466,7 @@ impl Saver {
                     .map_err(|e| io("copy the file's permissions", e))?;
             }
             drop(out);
+            before_rename()?;
             std::fs::rename(&temp, target)
                 .map_err(|e| io("rename the temporary file over it", e))?;
             sync_dir(&dir);
@@ -716,6 +742,26 @@ mod tests {
         assert!(matches!(err, SaveError::Changed { .. }), "{err}");
         assert_eq!(std::fs::read(&f).unwrap(), b"edited meanwhile");
         assert!(!backup_path(&f, 1).exists());
+        std::fs::remove_dir_all(dir).unwrap();
+    }
+
+    #[test]
+    fn a_change_while_the_new_file_is_written_is_caught_before_the_rename() {
+        let dir = scratch("late-change");
+        let f = dir.join("s.csv");
+        std::fs::write(&f, b"value,qty\n4k7,3\n").unwrap();
+        // Another program (taking no lock) appends a row after the first compare.
+        let append = || {
+            use std::io::Write as _;
+            let mut a = OpenOptions::new().append(true).open(&f).unwrap();
+            a.write_all(b"10k,2\n").unwrap();
+        };
+        let err = Saver::new()
+            .replace_with(&f, b"value,qty\n4k7,3\n", b"value,qty\n4k7,2\n", &append)
+            .unwrap_err();
+        assert!(matches!(err, SaveError::Changed { .. }), "{err}");
+        assert_eq!(std::fs::read(&f).unwrap(), b"value,qty\n4k7,3\n10k,2\n");
+        assert!(leftovers(&dir).is_empty(), "{:?}", leftovers(&dir));
         std::fs::remove_dir_all(dir).unwrap();
     }
 
