@@ -122,3 +122,39 @@ fn a_take_waits_for_the_lock_and_then_takes_from_the_new_contents() {
     );
     assert_eq!(d9(&stock), 14);
 }
+
+#[test]
+fn a_take_and_an_add_at_once_both_land() {
+    let (dir, stock, result) = scratch("take-and-add");
+    let order = dir.join("order.csv");
+    // Three 10k arrive; with no location column they go to the part's first row, bin D9.
+    std::fs::write(
+        &order,
+        "value,tolerance,power,qty,packs,cost\n10k,5%,0.25W,3,1,0.3\n",
+    )
+    .unwrap();
+    let original = drawer();
+    for round in 0..30 {
+        std::fs::write(&stock, &original).unwrap();
+        let a = take(&stock, &result);
+        let b = Command::new(BIN)
+            .args(["stock", "add"])
+            .arg(&stock)
+            .arg("--order")
+            .arg(&order)
+            .stdout(Stdio::null())
+            .stderr(Stdio::piped())
+            .spawn()
+            .unwrap();
+        for child in [a, b] {
+            let out = child.wait_with_output().unwrap();
+            assert_eq!(
+                out.status.code(),
+                Some(0),
+                "round {round}: {}",
+                String::from_utf8_lossy(&out.stderr)
+            );
+        }
+        assert_eq!(d9(&stock), 20 - 1 + 3, "round {round}");
+    }
+}
