@@ -69,7 +69,7 @@ pub enum SaveError {
         /// The file.
         file: String,
         /// How long this run waited.
-        seconds: u64,
+        seconds: f64,
     },
     /// A test hook stopped the write.
     #[error("{file}: the write was stopped after {bytes} bytes ({FAIL_AFTER_ENV} is set); the file was left as it was")]
@@ -188,6 +188,18 @@ pub fn leftovers(path: &Path) -> Vec<PathBuf> {
 /// How long a command waits for another biasfit to finish with a stock file before giving up.
 pub const LOCK_WAIT: Duration = Duration::from_secs(10);
 
+/// Set to a number of milliseconds, the wait for a stock file's lock is that long instead of [`LOCK_WAIT`],
+/// so that a test of the refusal need not wait ten seconds; honoured only by [`lock_wait_from_env`].
+pub const LOCK_WAIT_ENV: &str = "BIASFIT_TEST_LOCK_WAIT_MS";
+
+/// [`LOCK_WAIT`], or the test hook's wait when [`LOCK_WAIT_ENV`] holds a whole number.
+pub fn lock_wait_from_env() -> Duration {
+    std::env::var(LOCK_WAIT_ENV)
+        .ok()
+        .and_then(|v| v.trim().parse().ok())
+        .map_or(LOCK_WAIT, Duration::from_millis)
+}
+
 /// An advisory lock on a file being edited, held from before it is read until after it is replaced, so
 /// that two biasfit runs on one stock file take turns instead of one losing the other's update. Dropping it
 /// releases the lock. Programs that take no lock (an editor, a script) are caught by the second line of
@@ -233,7 +245,7 @@ pub fn lock_for_edit(path: &Path, wait: Duration) -> Result<EditLock, SaveError>
                     if started.elapsed() >= wait {
                         return Err(SaveError::Busy {
                             file,
-                            seconds: wait.as_secs(),
+                            seconds: wait.as_secs_f64(),
                         });
                     }
                     std::thread::sleep(Duration::from_millis(2));

@@ -50,6 +50,7 @@ fn take(stock: &Path, result: &Path) -> Child {
         .arg(result)
         .env_remove("BIASFIT_TEST_FAIL_AFTER_BYTES")
         .env_remove("BIASFIT_TEST_STALL_AFTER_BYTES")
+        .env_remove("BIASFIT_TEST_LOCK_WAIT_MS")
         .stdout(Stdio::null())
         .stderr(Stdio::piped())
         .spawn()
@@ -157,4 +158,30 @@ fn a_take_and_an_add_at_once_both_land() {
         }
         assert_eq!(d9(&stock), 20 - 1 + 3, "round {round}");
     }
+}
+
+#[test]
+fn a_lock_held_too_long_is_a_refusal_that_writes_nothing() {
+    let (_dir, stock, result) = scratch("busy");
+    std::fs::write(&stock, drawer()).unwrap();
+    let held = std::fs::File::open(&stock).unwrap();
+    held.lock().unwrap();
+    // The wait is 10 s; the test hook shortens it to 0.2 s.
+    let out = Command::new(BIN)
+        .args(["stock", "take"])
+        .arg(&stock)
+        .arg("--result")
+        .arg(&result)
+        .env("BIASFIT_TEST_LOCK_WAIT_MS", "200")
+        .output()
+        .unwrap();
+    let err = String::from_utf8_lossy(&out.stderr).into_owned();
+    assert_eq!(out.status.code(), Some(4), "{err}");
+    assert!(
+        err.contains("drawer.csv: another biasfit has been changing this file for 0.2 s")
+            && err.contains("nothing was written; run the command again"),
+        "{err}"
+    );
+    assert_eq!(d9(&stock), 20);
+    assert!(!stock.with_file_name("drawer.csv.bak.1").exists());
 }

@@ -146,7 +146,7 @@ fn lock(path: &Path, args: &EditArgs) -> Result<Option<save::EditLock>, Failure>
     if args.dry_run {
         return Ok(None);
     }
-    save::lock_for_edit(path, save::LOCK_WAIT)
+    save::lock_for_edit(path, save::lock_wait_from_env())
         .map(Some)
         .map_err(|e| Failure::Io(e.to_string()))
 }
