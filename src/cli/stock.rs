@@ -140,6 +140,20 @@ pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
     }
 }
 
+/// Refuses a `--result` or `--order` that is the stock file being rewritten (by file identity): a stock
+/// reads as an order file, so `stock add drawer.csv --order drawer.csv` would double every count.
+fn not_the_stock(flag: &str, input: &Path, stock: &Path) -> Result<(), Failure> {
+    match (save::FileId::of(input), save::FileId::of(stock)) {
+        (Some(a), Some(b)) if a == b => Err(Failure::Input(format!(
+            "{flag} {}: that is the stock file being changed ({}); nothing was written; give the file `biasfit {}` wrote",
+            input.display(),
+            stock.display(),
+            if flag == "--order" { "order --csv" } else { "design --json" }
+        ))),
+        _ => Ok(()),
+    }
+}
+
 /// Takes the stock file's lock for the whole read-modify-write (none for a dry run, which writes nothing), so
 /// that a second take or add waits for this one instead of overwriting it.
 fn lock(path: &Path, args: &EditArgs) -> Result<Option<save::EditLock>, Failure> {
@@ -220,6 +234,7 @@ fn finish(
 
 /// Runs `biasfit stock take`.
 fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
+    not_the_stock("--result", &args.result, &args.stock)?;
     let _lock = lock(&args.stock, &args.edit)?;
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let result = stocktake::load_result(&args.result).map_err(refused)?;
@@ -233,6 +248,7 @@ fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
 /// Runs `biasfit stock add`.
 fn add(args: AddArgs, out: &mut Out) -> Result<(), Failure> {
     let defaults = args.edit.defaults.resolve()?;
+    not_the_stock("--order", &args.order, &args.stock)?;
     let _lock = lock(&args.stock, &args.edit)?;
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let arrivals = orderfile::load(&args.order, defaults).map_err(input)?;
