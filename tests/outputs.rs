@@ -300,3 +300,30 @@ fn devices_fifos_and_stdout_are_written_to_not_replaced() {
         assert!(std::fs::metadata(&fifo).unwrap().file_type().is_fifo());
     }
 }
+
+#[cfg(unix)]
+#[test]
+fn a_read_only_output_is_refused_before_any_work() {
+    use std::os::unix::fs::PermissionsExt;
+    let dir = scratch("read-only");
+    let args = ["order", "d.toml", "--stock", "hd.csv", "--csv", "o.csv"];
+    let o = run(&dir, &args);
+    assert_eq!(o.status.code(), Some(0), "{}", err(&o));
+    let before = std::fs::read(dir.join("o.csv")).unwrap();
+    std::fs::set_permissions(dir.join("o.csv"), std::fs::Permissions::from_mode(0o444)).unwrap();
+    // Even with --force, and even for root: the user marked the file read-only.
+    for force in [false, true] {
+        let o = run(
+            &dir,
+            &[&args[..], if force { &["--force"][..] } else { &[][..] }].concat(),
+        );
+        assert_eq!(o.status.code(), Some(4), "{}", err(&o));
+        assert!(
+            err(&o).contains("o.csv: the file is read-only"),
+            "{}",
+            err(&o)
+        );
+        assert!(o.stdout.is_empty(), "refused before the search");
+        assert_eq!(std::fs::read(dir.join("o.csv")).unwrap(), before);
+    }
+}

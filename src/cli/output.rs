@@ -140,12 +140,23 @@ impl Outputs {
     /// `--force`); `flag` names the option in the message. Called before the work, and again at the write.
     pub fn check(&self, flag: &str, path: &Path, kind: Kind) -> Result<(), Failure> {
         self.not_an_input(flag, path)?;
-        if to_stdout(path) || self.force || save::is_direct(path) {
+        if to_stdout(path) || save::is_direct(path) {
             return Ok(());
         }
         let Ok(meta) = std::fs::metadata(path) else {
             return Ok(());
         };
+        if meta.is_file() && meta.permissions().readonly() {
+            // Refused at the write too; said here so that no search runs for an output that cannot land.
+            let e = save::SaveError::ReadOnly {
+                file: path.display().to_string(),
+                why: "",
+            };
+            return Err(Failure::Io(e.to_string()));
+        }
+        if self.force {
+            return Ok(());
+        }
         if !meta.is_file() || meta.len() == 0 {
             return Ok(());
         }
