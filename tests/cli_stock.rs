@@ -53,6 +53,28 @@ fn quirky_but_valid_files_load() {
 }
 
 #[test]
+fn the_ohm_sign_and_the_greek_omega_are_the_same_unit() {
+    // Issue 18: U+2126 was refused while the identical-looking U+03A9 was accepted. The two 4k7 rows
+    // (one of each) merge into one value of 5 pieces.
+    let out = biasfit(&["stock", "tests/fixtures/stock/ohm-sign.csv", "--json"]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["distinct"], 2, "{v}");
+    assert_eq!(v["pieces"], 9, "{v}");
+    let out = biasfit(&[
+        "fix",
+        "4.7k\u{2126}",
+        "--stock",
+        "tests/fixtures/stock/ohm-sign.csv",
+        "--json",
+    ]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["target"], 4700.0, "{v}");
+    assert_eq!(v["networks"][0]["network"], "4k7", "{v}");
+}
+
+#[test]
 fn cr_lf_and_crlf_line_ends_read_alike() {
     // Issue 18: a CR-only file (old spreadsheet exports) once read as one line, "0 distinct values".
     let cr = std::fs::read_to_string(root().join("tests/fixtures/stock/cr-only.csv")).unwrap();

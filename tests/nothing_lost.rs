@@ -138,7 +138,10 @@ fn killed_mid_write_the_stock_is_the_old_file() {
     assert_eq!(&partial[..], &s.after[..partial.len()]);
     // ...and the stock file is the old one, whole; the backup was already safe.
     assert_eq!(std::fs::read(&s.stock).unwrap(), s.before);
-    assert_eq!(std::fs::read(s.dir.join("big.csv.bak")).unwrap(), s.before);
+    assert_eq!(
+        std::fs::read(s.dir.join("big.csv.bak.1")).unwrap(),
+        s.before
+    );
     // Running again works, says what the kill left behind, and gives the new file.
     let o = command(&s, true).output().unwrap();
     assert_eq!(

@@ -72,7 +72,7 @@ fn take_rewrites_only_the_qty_fields_and_keeps_a_backup() {
             .replace(" 390R , 6 ,", " 390R , 5 ,");
         assert_eq!(std::fs::read_to_string(&stock).unwrap(), want);
         assert_eq!(
-            std::fs::read_to_string(stock.with_file_name("drawer.csv.bak")).unwrap(),
+            std::fs::read_to_string(stock.with_file_name("drawer.csv.bak.1")).unwrap(),
             original(crlf)
         );
         let out = String::from_utf8(o.stdout).unwrap();
@@ -192,7 +192,7 @@ fn take_prefers_the_pick_s_location_then_file_order() {
     assert_eq!(v["changes"][0]["before"], 5);
     assert_eq!(v["changes"][0]["after"], 2);
     assert_eq!(v["changes"][0]["ohms"], 2700.0);
-    assert!(v["backup"].as_str().unwrap().ends_with("drawer.csv.bak"));
+    assert!(v["backup"].as_str().unwrap().ends_with("drawer.csv.bak.1"));
 }
 
 #[test]
@@ -215,7 +215,7 @@ fn a_short_stock_is_refused_and_nothing_changes() {
         )
     );
     assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
-    assert!(!dir.join("drawer.csv.bak").exists());
+    assert!(!dir.join("drawer.csv.bak.1").exists());
 }
 
 #[test]
@@ -259,7 +259,7 @@ fn dry_run_writes_nothing() {
         .unwrap()
         .contains("dry run: nothing was written"));
     assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
-    assert!(!dir.join("drawer.csv.bak").exists());
+    assert!(!dir.join("drawer.csv.bak.1").exists());
 }
 
 #[test]
@@ -351,7 +351,7 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
     let o = run(&["stock", "take", s(&stock)]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("--result <FILE>"), "{}", stderr(&o));
-    assert!(!dir.join("drawer.csv.bak").exists());
+    assert!(!dir.join("drawer.csv.bak.1").exists());
 }
 
 #[test]

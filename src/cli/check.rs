@@ -193,6 +193,8 @@ pub fn circuit_networks(
 
 /// Runs `biasfit check`.
 pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
+    let outputs = args.drawings.outputs(&[("design file", &args.file)]);
+    args.drawings.check(&outputs)?;
     let (tol, watts) = args.parts.resolve()?;
     let design = design_file::load(&args.file).map_err(super::input)?;
     let picked = match args.stage.as_deref() {
@@ -234,10 +236,14 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     if args.drawings.wanted() {
         let sheet = [SheetStage::new(s, &nets, 1)];
         let title = format!("{} ({})", s.name, design.file);
-        for f in args
-            .drawings
-            .write(&title, &sheet, &pick_list(&sheet), &report.cautions)?
-        {
+        for f in args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &pick_list(&sheet),
+            &report.cautions,
+        )? {
             super::output::note(&format!("wrote {}", f.display()));
         }
     }

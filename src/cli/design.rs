@@ -164,6 +164,10 @@ pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec
 
 /// Runs `biasfit design`.
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
+    let outputs = args
+        .drawings
+        .outputs(&[("design file", &args.file), ("stock file", &args.stock)]);
+    args.drawings.check(&outputs)?;
     let (design_file, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
     let request = Request {
@@ -198,10 +202,14 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     if args.drawings.wanted() {
         let sheet = sheet(&design_file, &outcome.built);
         let title = format!("{} from {}", design_file.file, stock.file);
-        for f in args
-            .drawings
-            .write(&title, &sheet, &report.pick, &report.cautions)?
-        {
+        for f in args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &report.pick,
+            &report.cautions,
+        )? {
             super::output::note(&format!("wrote {}", f.display()));
         }
     }

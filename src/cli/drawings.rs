@@ -3,11 +3,11 @@
 //! half a file. Shared by every command that has built stages to show (check now; design and spread can
 //! flatten the same arguments).
 
-use super::Failure;
+use super::output::{to_stdout, Kind, Outputs};
+use super::{Failure, Out};
 use biasfit::report::design::PickLine;
 use biasfit::report::html::{build_sheet, SheetStage};
 use biasfit::report::svg::{load_line_svg, schematic_svg};
-use biasfit::save::Saver;
 use clap::Args;
 use std::path::{Path, PathBuf};
 
@@ -17,9 +17,12 @@ pub struct DrawingArgs {
     /// Write each stage's load line and schematic as SVG files into this folder (made if missing)
     #[arg(long, value_name = "DIR")]
     pub svg: Option<PathBuf>,
-    /// Write a self-contained HTML build sheet (drawings inline, prints on A4) to this file
+    /// Write a self-contained HTML build sheet (drawings inline, prints on A4) to this file (- for standard output)
     #[arg(long, value_name = "FILE")]
     pub html: Option<PathBuf>,
+    /// Replace an existing output file that biasfit did not write (an input is never replaced)
+    #[arg(long)]
+    pub force: bool,
 }
 
 /// A file-name stem from a stage name: lower-case letters and digits, other runs of characters as one '-'.
@@ -60,27 +63,45 @@ pub fn stems(names: &[&str]) -> Vec<String> {
     taken
 }
 
-/// Writes `contents` to `path` atomically (see [`biasfit::save`]).
-fn write_atomic(path: &Path, contents: &str) -> Result<(), Failure> {
-    Saver::new()
-        .write(path, contents.as_bytes())
-        .map_err(|e| Failure::Io(e.to_string()))
-}
-
 impl DrawingArgs {
     /// Whether any output was asked for.
     pub fn wanted(&self) -> bool {
         self.svg.is_some() || self.html.is_some()
     }
 
+    /// The guard for this command's outputs: none may land on one of `inputs`.
+    pub fn outputs(&self, inputs: &[(&'static str, &Path)]) -> Outputs {
+        Outputs::new(inputs, self.force)
+    }
+
+    /// Refuses, before any work, an output that would land on an input or on a file biasfit did not write.
+    pub fn check(&self, outputs: &Outputs) -> Result<(), Failure> {
+        if let Some(dir) = &self.svg {
+            if to_stdout(dir) {
+                return Err(Failure::Input(
+                    "--svg -: expected a folder to write the SVG files into; standard output cannot hold several files (use --html - for one file)".into(),
+                ));
+            }
+            // The folder itself only must not be an input; each file in it is checked as it is written.
+            outputs.not_an_input("--svg", dir)?;
+        }
+        if let Some(file) = &self.html {
+            outputs.check("--html", file, Kind::Html)?;
+        }
+        Ok(())
+    }
+
     /// Writes what was asked for and returns the files written.
     pub fn write(
         &self,
+        outputs: &Outputs,
+        out: &mut Out,
         title: &str,
         stages: &[SheetStage],
         pick: &[PickLine],
         cautions: &[String],
     ) -> Result<Vec<PathBuf>, Failure> {
+        self.check(outputs)?;
         let mut written = Vec::new();
         if let Some(dir) = &self.svg {
             std::fs::create_dir_all(dir).map_err(|e| {
@@ -96,14 +117,17 @@ impl DrawingArgs {
                     ("schematic", schematic_svg(&s.schematic)),
                 ] {
                     let path = dir.join(format!("{stem}-{kind}.svg"));
-                    write_atomic(&path, &svg)?;
+                    outputs.write("--svg", &path, Kind::Svg, svg.as_bytes(), out)?;
                     written.push(path);
                 }
             }
         }
         if let Some(file) = &self.html {
-            write_atomic(file, &build_sheet(title, stages, pick, cautions))?;
-            written.push(file.clone());
+            let sheet = build_sheet(title, stages, pick, cautions);
+            outputs.write("--html", file, Kind::Html, sheet.as_bytes(), out)?;
+            if !to_stdout(file) {
+                written.push(file.clone());
+            }
         }
         Ok(written)
     }

@@ -49,12 +49,19 @@ pub fn seconds(text: &str) -> Result<Duration, String> {
 /// An amount of money in the catalogue's currency, 0 or more ("25", "12.50"); no currency sign.
 pub fn amount(text: &str) -> Result<f64, String> {
     match text.trim().parse::<f64>() {
-        Ok(x) if x.is_finite() && x >= 0.0 => Ok(x),
+        Ok(x) if x.is_finite() && (0.0..=MAX_AMOUNT).contains(&x) => Ok(x),
+        Ok(x) if x > MAX_AMOUNT => Err(format!(
+            "it is more than any order of resistors costs; expected an amount of money from 0 to {MAX_AMOUNT}, as a plain number such as 25 or 12.50"
+        )),
         _ => Err(
             "expected an amount of money, 0 or more, as a plain number such as 25 or 12.50".into(),
         ),
     }
 }
+
+/// The largest amount of money read (a thousand million in any currency): far past any purchase of
+/// resistors, so that only a slip (1e308, which sums and prints as infinity) is refused.
+pub const MAX_AMOUNT: f64 = 1e9;
 
 /// One line for a refusal clap made: its message and any tip joined with "; ", the usage block dropped, and
 /// the help of `command` ("biasfit design") named, so the line reads like every other `error:` biasfit
@@ -160,9 +167,11 @@ mod tests {
     fn amounts_are_plain_numbers_0_or_more() {
         assert_eq!(amount("12.50"), Ok(12.5));
         assert_eq!(amount("0"), Ok(0.0));
-        for bad in ["-1", "NaN", "inf", "€5", "5 EUR", ""] {
+        assert_eq!(amount("1e9"), Ok(1e9));
+        for bad in ["-1", "NaN", "inf", "€5", "5 EUR", "", "1e308", "1000000001"] {
             assert!(amount(bad).is_err(), "{bad}");
         }
+        assert!(amount("1e308").unwrap_err().contains("more than any order"));
     }
 
     #[test]

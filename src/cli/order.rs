@@ -4,7 +4,7 @@
 use super::drawings::DrawingArgs;
 use super::flags::{amount, seconds, whole};
 use super::ideal::stages;
-use super::output::{warn_all, write_atomic, Progress};
+use super::output::{to_stdout, warn_all, Kind, Progress};
 use super::stock::{load as load_stock, DefaultArgs};
 use super::{Failure, Out};
 use biasfit::notation::{parse_tolerance, parse_watts, Series};
@@ -68,7 +68,7 @@ pub struct OrderArgs {
     /// Stop after this many seconds with the best purchase found
     #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
     pub time_limit: Option<Duration>,
-    /// Write the order list to this CSV file (what `stock add --order` reads)
+    /// Write the order list to this CSV file (what `stock add --order` reads; - for standard output)
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
     #[command(flatten)]
@@ -121,6 +121,23 @@ fn parse_bound(text: &str) -> Result<f64, Failure> {
 
 /// Runs `biasfit order`.
 pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
+    let mut inputs = vec![
+        ("design file", args.file.as_path()),
+        ("stock file", args.stock.as_path()),
+    ];
+    if let Some(c) = &args.catalog {
+        inputs.push(("catalogue", c.as_path()));
+    }
+    let outputs = args.drawings.outputs(&inputs);
+    args.drawings.check(&outputs)?;
+    if let Some(path) = &args.csv {
+        outputs.check("--csv", path, Kind::OrderCsv)?;
+        if to_stdout(path) && args.drawings.html.as_deref().is_some_and(to_stdout) {
+            return Err(Failure::Input(
+                "--csv - and --html -: both send a file to standard output; expected at most one there, so give the other a file name".into(),
+            ));
+        }
+    }
     let (design, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
     let catalogue = match &args.catalog {
@@ -192,16 +209,23 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         .pick
         .retain(|p| p.location.as_deref() != Some("to buy"));
     if let Some(path) = &args.csv {
-        write_atomic(path, render_csv(&outcome.lines).as_bytes())?;
-        super::output::note(&format!("wrote {}", path.display()));
+        let csv = render_csv(&outcome.lines);
+        outputs.write("--csv", path, Kind::OrderCsv, csv.as_bytes(), out)?;
+        if !to_stdout(path) {
+            super::output::note(&format!("wrote {}", path.display()));
+        }
     }
     if args.drawings.wanted() {
         let sheet = super::design::sheet(&design, &outcome.built);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
-        for f in args
-            .drawings
-            .write(&title, &sheet, &report.pick, &report.cautions)?
-        {
+        for f in args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &report.pick,
+            &report.cautions,
+        )? {
             super::output::note(&format!("wrote {}", f.display()));
         }
     }

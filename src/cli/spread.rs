@@ -5,7 +5,7 @@ use super::check::networks;
 use super::drawings::DrawingArgs;
 use super::flags::whole;
 use super::ideal::{stages, PartArgs};
-use super::output::write_atomic;
+use super::output::Kind;
 use super::{input, Failure, Out};
 use biasfit::report::html::{pick_list, SheetStage};
 use biasfit::report::result::read_result;
@@ -101,6 +101,12 @@ pub fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
 
 /// Runs `biasfit spread`.
 pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
+    let mut inputs = vec![("design file", args.file.as_path())];
+    if let Some(r) = &args.result {
+        inputs.push(("design result", r.as_path()));
+    }
+    let outputs = args.drawings.outputs(&inputs);
+    args.drawings.check(&outputs)?;
     let range = args.temp.as_deref().map(parse_range).transpose()?;
     let file = biasfit::design_file::load(&args.file).map_err(input)?;
     let circuit = match (
@@ -183,12 +189,18 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let report = SpreadReport::new(results);
     if args.drawings.wanted() {
         let title = format!("{}: spread", design.file);
-        let mut written =
-            args.drawings
-                .write(&title, &sheet, &pick_list(&sheet), &report.cautions)?;
+        let mut written = args.drawings.write(
+            &outputs,
+            out,
+            &title,
+            &sheet,
+            &pick_list(&sheet),
+            &report.cautions,
+        )?;
         if let Some(dir) = &args.drawings.svg {
             let path = dir.join("histograms.svg");
-            write_atomic(&path, render_spread_svg(&report).as_bytes())?;
+            let svg = render_spread_svg(&report);
+            outputs.write("--svg", &path, Kind::Svg, svg.as_bytes(), out)?;
             written.push(path);
         }
         for f in written {

@@ -32,9 +32,9 @@ pub struct StockArgs {
 /// What to do to a stock file other than summarise it.
 #[derive(Debug, Subcommand)]
 pub enum StockAction {
-    /// Subtract the parts a design used (keeps STOCK.bak, then rewrites only the qty fields)
+    /// Subtract the parts a design used (keeps STOCK.bak.1, then rewrites only the qty fields)
     Take(TakeArgs),
-    /// Add the parts that arrived, from an order file (keeps STOCK.bak)
+    /// Add the parts that arrived, from an order file (keeps STOCK.bak.1)
     Add(AddArgs),
 }
 
@@ -140,6 +140,31 @@ pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
     }
 }
 
+/// Refuses a `--result` or `--order` that is the stock file being rewritten (by file identity): a stock
+/// reads as an order file, so `stock add drawer.csv --order drawer.csv` would double every count.
+fn not_the_stock(flag: &str, input: &Path, stock: &Path) -> Result<(), Failure> {
+    match (save::FileId::of(input), save::FileId::of(stock)) {
+        (Some(a), Some(b)) if a == b => Err(Failure::Input(format!(
+            "{flag} {}: that is the stock file being changed ({}); nothing was written; give the file `biasfit {}` wrote",
+            input.display(),
+            stock.display(),
+            if flag == "--order" { "order --csv" } else { "design --json" }
+        ))),
+        _ => Ok(()),
+    }
+}
+
+/// Takes the stock file's lock for the whole read-modify-write (none for a dry run, which writes nothing), so
+/// that a second take or add waits for this one instead of overwriting it.
+fn lock(path: &Path, args: &EditArgs) -> Result<Option<save::EditLock>, Failure> {
+    if args.dry_run {
+        return Ok(None);
+    }
+    save::lock_for_edit(path, save::lock_wait_from_env())
+        .map(Some)
+        .map_err(|e| Failure::Io(e.to_string()))
+}
+
 /// Loads a stock file for editing, and says if an interrupted write left a temporary file beside it.
 fn load_for_edit(path: &Path, defaults: &DefaultArgs) -> Result<StockFile, Failure> {
     let sf = StockFile::load(path, defaults.resolve()?).map_err(input)?;
@@ -189,6 +214,7 @@ fn finish(
         let done = Saver::with_test_hooks_from_env()
             .replace(path, &sf.bytes, &edit.contents)
             .map_err(|e| Failure::Io(e.to_string()))?;
+        warn_all(&done.notes);
         backup = Some(done.backup.display().to_string());
     }
     if args.json {
@@ -208,6 +234,8 @@ fn finish(
 
 /// Runs `biasfit stock take`.
 fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
+    not_the_stock("--result", &args.result, &args.stock)?;
+    let _lock = lock(&args.stock, &args.edit)?;
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let result = stocktake::load_result(&args.result).map_err(refused)?;
     let picks = result
@@ -220,6 +248,8 @@ fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
 /// Runs `biasfit stock add`.
 fn add(args: AddArgs, out: &mut Out) -> Result<(), Failure> {
     let defaults = args.edit.defaults.resolve()?;
+    not_the_stock("--order", &args.order, &args.stock)?;
+    let _lock = lock(&args.stock, &args.edit)?;
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let arrivals = orderfile::load(&args.order, defaults).map_err(input)?;
     warn_all(&arrivals.warnings);

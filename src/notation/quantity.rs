@@ -193,6 +193,10 @@ pub const TOLERANCE_LETTERS: [(char, f64); 11] = [
     ('M', 0.20),
 ];
 
+/// The finest tolerance read (0.001 %): ten times finer than the finest IEC 60062 letter (L, 0.01 %), so only a
+/// slip (1e-308, a lost percent sign on a tiny number) is refused.
+pub const MIN_TOLERANCE: f64 = 1e-5;
+
 /// Reads a tolerance: "5%", "1 %", "±1%", a fraction "0.05", or an IEC 60062 letter (F, G, J, K…).
 ///
 /// A bare number is a fraction, so it must be below 1; "5" alone is refused rather than guessed.
@@ -229,15 +233,27 @@ pub fn parse_tolerance(input: &str) -> Result<Tolerance, QuantityError> {
                 .ok_or_else(|| refuse("it is not an IEC 60062 tolerance letter"));
         }
     }
-    let number_ok = |s: &str| !s.is_empty() && s.chars().all(|c| c.is_ascii_digit() || c == '.');
+    // Plain or scientific (0.05, 5e-2, 1e-3 %); no sign, no inf or nan.
+    let number_ok = |s: &str| {
+        s.starts_with(|c: char| c.is_ascii_digit() || c == '.')
+            && s.chars().any(|c| c.is_ascii_digit())
+            && s.chars()
+                .all(|c| c.is_ascii_digit() || matches!(c, '.' | 'e' | 'E' | '+' | '-'))
+    };
     let fraction: f64 = if let Some(p) = t.strip_suffix('%') {
         let p = p.trim_end();
         if !number_ok(p) {
             return Err(refuse("it is not a number"));
         }
-        format!("{p}e-2")
-            .parse()
-            .map_err(|_| refuse("it is not a number"))?
+        // One decimal string, rounded once: "1.1%" is read as 1.1e-2, not as 1.1 then divided by 100.
+        let text = match p.split_once(['e', 'E']) {
+            Some((m, e)) => {
+                let e: i32 = e.parse().map_err(|_| refuse("it is not a number"))?;
+                format!("{m}e{}", e.saturating_sub(2))
+            }
+            None => format!("{p}e-2"),
+        };
+        text.parse().map_err(|_| refuse("it is not a number"))?
     } else {
         if !number_ok(t) {
             return Err(refuse("it is not a number"));
@@ -250,6 +266,13 @@ pub fn parse_tolerance(input: &str) -> Result<Tolerance, QuantityError> {
         }
         f
     };
+    if fraction > 0.0 && fraction < MIN_TOLERANCE {
+        return Err(refuse(&format!(
+            "it is {} %, far finer than any resistor is made (the finest IEC 60062 letter, L, is 0.01 %); \
+             a tolerance must be from 0.001 % to 50 %",
+            scientific(fraction * 100.0, 3)
+        )));
+    }
     if !(fraction > 0.0 && fraction <= 0.5) {
         return Err(refuse("a tolerance must be above 0 and at most 50 %"));
     }
@@ -325,6 +348,27 @@ pub fn engineering(x: f64, unit: &str) -> String {
 #[cfg(test)]
 mod tests {
     use super::*;
+
+    #[test]
+    fn tolerances_in_scientific_form_and_the_smallest_one() {
+        assert_eq!(parse_tolerance("5e-2").unwrap(), Tolerance(0.05));
+        assert_eq!(parse_tolerance("1e0%").unwrap(), Tolerance(0.01));
+        assert_eq!(parse_tolerance("1.1%").unwrap(), Tolerance(0.011));
+        // L, the finest IEC 60062 letter, is 0.01 %; the floor sits ten times below it.
+        assert_eq!(parse_tolerance("L").unwrap(), Tolerance(0.0001));
+        assert_eq!(parse_tolerance("0.001%").unwrap(), Tolerance(1e-5));
+        for tiny in ["1e-308", "1e-308%", "0.0009%", "1e-6"] {
+            let e = parse_tolerance(tiny).unwrap_err().to_string();
+            assert!(
+                e.contains("far finer than any resistor is made"),
+                "{tiny}: {e}"
+            );
+            assert!(e.contains("from 0.001 % to 50 %"), "{tiny}: {e}");
+        }
+        for bad in ["1e", "e5", "inf", "nan", "5%%"] {
+            assert!(parse_tolerance(bad).is_err(), "{bad}");
+        }
+    }
 
     #[test]
     fn powers_in_every_written_form() {

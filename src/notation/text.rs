@@ -18,6 +18,38 @@ fn unsafe_char(c: char) -> bool {
     c.is_control() || matches!(c, '\u{202a}'..='\u{202e}' | '\u{2066}'..='\u{2069}')
 }
 
+/// Characters that show as nothing (a byte-order mark left in the middle of a file by joining two files, a
+/// zero-width space from a copied web page), with the name a message gives each.
+const INVISIBLE: [(char, &str); 6] = [
+    ('\u{feff}', "a byte-order mark (U+FEFF)"),
+    ('\u{200b}', "a zero-width space (U+200B)"),
+    ('\u{200c}', "a zero-width non-joiner (U+200C)"),
+    ('\u{200d}', "a zero-width joiner (U+200D)"),
+    ('\u{2060}', "a word joiner (U+2060)"),
+    ('\u{ad}', "a soft hyphen (U+00AD)"),
+];
+
+/// The name of an invisible character (a byte-order mark, a zero-width space), if `c` is one.
+pub fn invisible_name(c: char) -> Option<&'static str> {
+    INVISIBLE.iter().find(|(i, _)| *i == c).map(|&(_, n)| n)
+}
+
+/// `text` with its invisible characters written as visible escapes (`\u{feff}`), for quoting it in a message.
+pub fn show_invisible(text: &str) -> Cow<'_, str> {
+    if !text.chars().any(|c| invisible_name(c).is_some()) {
+        return Cow::Borrowed(text);
+    }
+    let mut out = String::with_capacity(text.len() + 16);
+    for c in text.chars() {
+        if invisible_name(c).is_some() {
+            escape_into(&mut out, c);
+        } else {
+            out.push(c);
+        }
+    }
+    Cow::Owned(out)
+}
+
 /// Writes a character as a visible escape (`\u{1b}`), the form Rust and many tools use.
 fn escape_into(out: &mut String, c: char) {
     let _ = write!(out, "\\u{{{:x}}}", c as u32);

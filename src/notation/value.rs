@@ -47,8 +47,13 @@ fn multiplier(c: char, had_unit: bool) -> Option<Result<i32, &'static str>> {
     }))
 }
 
-/// Strips a trailing unit word (Ω, ohm, ohms, in any case) and says whether one was there.
+/// Strips a trailing unit word (Ω or the ohm sign Ω, ohm, ohms, in any case) and says whether one was there.
 fn strip_unit(s: &str) -> (&str, bool) {
+    // U+2126 OHM SIGN looks like the Greek capital omega that most keyboards give, and Unicode treats the
+    // two as the same letter; some symbol pickers and word processors give the sign.
+    if let Some(rest) = s.strip_suffix('\u{2126}') {
+        return (rest.trim_end(), true);
+    }
     let lower = s.to_lowercase();
     for unit in ["ohms", "ohm", "Ω", "ω"] {
         if lower.ends_with(unit) && lower.len() >= unit.len() {
@@ -306,6 +311,25 @@ mod tests {
             let got = ok(s);
             assert!(((got - want) / want).abs() < 1e-15, "{s}: {got} != {want}");
         }
+    }
+
+    #[test]
+    fn the_ohm_sign_reads_like_the_greek_capital_omega() {
+        // U+2126 OHM SIGN and U+03A9 GREEK CAPITAL LETTER OMEGA look alike; Unicode maps the sign to the
+        // letter (canonical equivalence), so both must read the same.
+        for (sign, letter) in [
+            ("4k7\u{2126}", "4k7\u{3a9}"),
+            ("1.5 k\u{2126}", "1.5 k\u{3a9}"),
+            ("330 \u{2126}", "330 \u{3a9}"),
+            ("1 m\u{2126}", "1 m\u{3a9}"),
+        ] {
+            assert_eq!(
+                parse_ohms(sign).unwrap(),
+                parse_ohms(letter).unwrap(),
+                "{sign}"
+            );
+        }
+        assert_eq!(parse_ohms("4k7\u{2126}").unwrap(), Ohms(4700.0));
     }
 
     #[test]

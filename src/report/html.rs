@@ -358,6 +358,9 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
     );
 }
 
+/// The generator tag every build sheet carries, by which biasfit knows a file it wrote before.
+pub const GENERATOR: &str = "<meta name=\"generator\" content=\"biasfit\">";
+
 /// The whole build sheet: a title, the cautions that apply, each stage, and the pick list.
 pub fn build_sheet(
     title: &str,
@@ -368,7 +371,7 @@ pub fn build_sheet(
     let mut out = String::new();
     let _ = write!(
         out,
-        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" \
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n{GENERATOR}\n<meta name=\"viewport\" \
          content=\"width=device-width, initial-scale=1\">\n<title>Build sheet: {}</title>\n<style>{STYLE}</style>\n\
          </head>\n<body>\n<header class=\"sheet\"><h1>Build sheet</h1><p class=\"sub\">{} · {} stage{} · made \
          by biasfit {}</p></header>\n",

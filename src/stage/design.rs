@@ -6,7 +6,7 @@
 //! numbers in SI units (`supply = 12`) or strings with units (`load = "4k7"`, `ic = "2mA"`).
 
 use super::{Beta, Limits, Polarity, Rule, Stage, Topology, Transistor, Vbe};
-use crate::notation::value::MAX_OHMS;
+use crate::notation::value::{MAX_OHMS, MIN_OHMS};
 use crate::notation::{engineering, parse_amps, parse_ohms, parse_volts, parse_watts, trim_number};
 use crate::units::{Amps, Celsius, Ohms, Volts, Watts};
 use std::ops::Range;
@@ -599,21 +599,48 @@ const MOST_AMPS: f64 = 100.0;
 const MOST_WATTS: f64 = 1e4;
 const MOST_BETA: f64 = 1e5;
 
+/// The least a quantity with no natural floor may be: the smallest normal f64 (about 2.2e-308). Below it
+/// numbers lose their precision, and a value that small is a slip, not a design.
+const TINIEST: f64 = f64::MIN_POSITIVE;
+
+/// A quantity that must lie in `least..=most` (in `unit`), refused with what is wrong and the range.
 fn positive<T: Copy>(
     cx: &Cx,
     v: &Val,
     x: T,
     get: impl Fn(T) -> f64,
     what: &str,
-    (most, unit): (f64, &str),
+    (least, most, unit): (f64, f64, &str),
 ) -> Result<T, DesignError> {
     let f = get(x);
-    if f.is_finite() && f > 0.0 && f <= most {
+    let range = if least == TINIEST {
+        format!("above 0 and at most {}", engineering(most, unit))
+    } else {
+        format!(
+            "from {} to {}",
+            engineering(least, unit),
+            engineering(most, unit)
+        )
+    };
+    if f.is_finite() && f >= least && f <= most {
         Ok(x)
     } else if f.is_finite() && f > most {
         Err(v.refuse(
             cx,
             format!("{what} must be at most {}", engineering(most, unit)),
+        ))
+    } else if f.is_finite() && f > 0.0 {
+        let why = if least == TINIEST {
+            "a number too small to compute with (below about 2.2e-308)".to_string()
+        } else {
+            format!("below the {} biasfit accepts", engineering(least, unit))
+        };
+        Err(v.refuse(
+            cx,
+            format!(
+                "{what} is {}, {why}; expected a value {range}",
+                engineering(f, unit)
+            ),
         ))
     } else {
         Err(v.refuse(cx, format!("{what} must be greater than zero")))
@@ -725,7 +752,7 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
             ohms(cx, &v)?,
             |o| o.0,
             "the load",
-            (MAX_OHMS, "Ω"),
+            (MIN_OHMS, MAX_OHMS, "Ω"),
         )?),
     };
     let ic = match t.get(cx, "ic") {
@@ -736,7 +763,7 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
             amps(cx, &v)?,
             |a| a.0,
             "the collector current",
-            (MOST_AMPS, "A"),
+            (TINIEST, MOST_AMPS, "A"),
         )?),
     };
     match (load, ic) {
@@ -927,7 +954,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
                         amps(cx, &at_v)?,
                         |a| a.0,
                         "the reference current",
-                        (MOST_AMPS, "A"),
+                        (TINIEST, MOST_AMPS, "A"),
                     )?;
                     let n = d.number(cx, "n", 1.0, |n| {
                         if (0.5..=3.0).contains(&n) {
@@ -966,7 +993,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
             watts(cx, &v)?,
             |w| w.0,
             "the power limit",
-            (MOST_WATTS, "W"),
+            (TINIEST, MOST_WATTS, "W"),
         )?),
     };
     let max_ic = match t.get(cx, "max_ic") {
@@ -977,7 +1004,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
             amps(cx, &v)?,
             |a| a.0,
             "the current limit",
-            (MOST_AMPS * 10.0, "A"),
+            (TINIEST, MOST_AMPS * 10.0, "A"),
         )?),
     };
     let max_vce = match t.get(cx, "max_vce") {
@@ -988,7 +1015,7 @@ fn read_transistor(cx: &Cx, t: &mut Tab) -> Result<Transistor, DesignError> {
             volts(cx, &v)?.abs(),
             |x| x.0,
             "the voltage limit",
-            (MOST_VOLTS * 10.0, "V"),
+            (TINIEST, MOST_VOLTS * 10.0, "V"),
         )?),
     };
     // About −2 mV/°C at constant current: the textbook figure for silicon (from memory; common practice).

@@ -16,6 +16,7 @@
 //! Keeping every message and span would mean re-scanning each line by hand after the crate, so the crate
 //! would only add a second parser.
 
+use crate::notation::text::{invisible_name, show_invisible};
 use std::collections::HashMap;
 use std::ops::Range;
 use std::path::Path;
@@ -98,7 +99,9 @@ pub enum CsvError {
         example: &'static str,
     },
     /// A required column is not in the header.
-    #[error("{file}:{line}: no '{column}' column in the header ({found}); expected {expected}")]
+    #[error(
+        "{file}:{line}: no '{column}' column in the header ({found}){hidden}; expected {expected}"
+    )]
     MissingColumn {
         /// The file.
         file: String,
@@ -110,6 +113,9 @@ pub enum CsvError {
         found: String,
         /// The columns the file kind reads.
         expected: String,
+        /// An invisible character that hides the column, named (", but there is a byte-order mark (U+FEFF)
+        /// before 'value', which cannot be seen: delete it"), or nothing.
+        hidden: String,
     },
     /// The header names a column twice.
     #[error("{file}:{line}: the header names column '{column}' twice; keep one")]
@@ -316,6 +322,41 @@ fn line_of(bytes: &[u8], offset: usize) -> (usize, usize) {
     (line, col)
 }
 
+/// Names the invisible character that keeps a header field from naming `column` ("value" behind a
+/// byte-order mark that joining two files left in the middle), so the message says what cannot be seen.
+fn hidden_column(column: &Column, fields: &[Field]) -> String {
+    for f in fields {
+        let Some(c) = f
+            .text
+            .chars()
+            .find_map(|c| invisible_name(c).map(|n| (c, n)))
+        else {
+            continue;
+        };
+        let clean: String = f
+            .text
+            .chars()
+            .filter(|&c| invisible_name(c).is_none())
+            .collect();
+        let clean = clean.trim().to_lowercase();
+        if !column.aliases.contains(&clean.as_str()) {
+            continue;
+        }
+        let (ch, name) = c;
+        let place = if f.text.trim_start().starts_with(ch) {
+            "before"
+        } else if f.text.trim_end().ends_with(ch) {
+            "after"
+        } else {
+            "inside"
+        };
+        return format!(
+            ", but there is {name} {place} '{clean}', which cannot be seen: delete it (retype the header line)"
+        );
+    }
+    String::new()
+}
+
 /// Whether a line carries no fields: blank, or a `#` comment.
 fn is_skipped(line: &str) -> bool {
     let t = line.trim();
@@ -494,12 +535,16 @@ impl Table {
                     file: file.to_string(),
                     line: header_line,
                     column: column.name,
-                    found: header
-                        .fields
-                        .iter()
-                        .map(|f| f.text.as_str())
-                        .collect::<Vec<_>>()
-                        .join(&(delimiter as char).to_string()),
+                    found: show_invisible(
+                        &header
+                            .fields
+                            .iter()
+                            .map(|f| f.text.as_str())
+                            .collect::<Vec<_>>()
+                            .join(&(delimiter as char).to_string()),
+                    )
+                    .into_owned(),
+                    hidden: hidden_column(column, &header.fields),
                     expected: if header.fields.len() == 1 {
                         // "value|qty" or "value qty": the delimiter is one biasfit does not read.
                         format!(
