@@ -255,7 +255,8 @@ fn the_circuit_build_sheet_holds_every_node_part_target_and_check() {
     let body = page.trim_start_matches("<!DOCTYPE html>\n");
     let xml = body
         .replace("<meta charset=\"utf-8\">", "<meta charset=\"utf-8\"/>")
-        .replace("initial-scale=1\">", "initial-scale=1\"/>");
+        .replace("initial-scale=1\">", "initial-scale=1\"/>")
+        .replace("content=\"biasfit\">", "content=\"biasfit\"/>");
     let doc = roxmltree::Document::parse(&xml).unwrap_or_else(|e| panic!("{e}"));
     let text: String = doc
         .descendants()

@@ -229,7 +229,7 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     };
     let s = match picked {
         Position::Stage(s) => s,
-        Position::Circuit(c) => return check_circuit(&args, c, tol, watts, out),
+        Position::Circuit(c) => return check_circuit(&args, c, tol, watts, &outputs, out),
     };
     let nets = networks(s, &args.slots, tol, watts)?;
     let report = Report::new(vec![StageReport::new(s, &nets)]);
@@ -265,6 +265,7 @@ fn check_circuit(
     c: &Circuit,
     tol: Tolerance,
     watts: Watts,
+    outputs: &super::output::Outputs,
     out: &mut Out,
 ) -> Result<(), Failure> {
     let nets = circuit_networks(c, &args.slots, tol, watts)?;
@@ -279,8 +280,10 @@ fn check_circuit(
     if let Some(path) = &args.drawings.html {
         let title = format!("{} ({})", c.name, args.file.display());
         let page = biasfit::report::html::circuit_sheet(&title, &circuit, &report.cautions);
-        super::output::write_atomic(path, page.as_bytes())?;
-        super::output::note(&format!("wrote {}", path.display()));
+        outputs.write("--html", path, super::output::Kind::Html, page.as_bytes(), out)?;
+        if !super::output::to_stdout(path) {
+            super::output::note(&format!("wrote {}", path.display()));
+        }
     }
     if args.json {
         out.json(&report)?;

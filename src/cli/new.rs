@@ -29,7 +29,10 @@ pub fn run(args: NewArgs, out: &mut Out) -> Result<(), Failure> {
             file.display()
         )));
     }
-    super::output::write_atomic(&file, s.text.as_bytes())?;
+    let written = biasfit::save::Saver::new()
+        .write(&file, s.text.as_bytes())
+        .map_err(|e| Failure::Io(e.to_string()))?;
+    super::output::warn_all(&written.notes);
     let next = if s.circuit {
         let slots = biasfit::design_file::parse(s.name, s.text)
             .ok()

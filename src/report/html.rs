@@ -538,7 +538,7 @@ pub fn circuit_sheet(
     let all_ok = c.all_ok();
     let _ = write!(
         out,
-        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n<meta name=\"viewport\" \
+        "<!DOCTYPE html>\n<html lang=\"en\">\n<head>\n<meta charset=\"utf-8\">\n{GENERATOR}\n<meta name=\"viewport\" \
          content=\"width=device-width, initial-scale=1\">\n<title>Build sheet: {}</title>\n<style>{STYLE}</style>\n\
          </head>\n<body>\n<header class=\"sheet\"><h1>Build sheet</h1><p class=\"sub\">{} · circuit · made by \
          biasfit {}</p></header>\n",
