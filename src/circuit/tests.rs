@@ -224,7 +224,10 @@ fn assert_genuine(c: &Circuit, b: &Build, s: &Solution, what: &str) {
         let name = &p.name;
         match st.region {
             Some(Region::Active) => {
-                assert!(ib >= -1e-18 && near(ic, q.beta * ib), "{what}: {name} {st:?}");
+                assert!(
+                    ib >= -1e-18 && near(ic, q.beta * ib),
+                    "{what}: {name} {st:?}"
+                );
                 if p.pins[0] != p.pins[1] {
                     assert!(vce >= q.vce_sat - 1e-9, "{what}: {name} {st:?}");
                 }
@@ -322,7 +325,18 @@ fn every_latch_reported_is_a_genuine_second_operating_point() {
             m.parts[rl].kind = resistor(rload);
             let b = m.typical(&[Ohms(rref)]).unwrap();
             let s = solve(&m, &b).unwrap();
-            assert!(s.latch_checked && s.latch.is_none(), "mirror {rref} {rload}");
+            if let Some(l) = &s.latch {
+                assert_genuine(
+                    &m,
+                    &b,
+                    &l.second,
+                    &format!("mirror {rref} {rload}, second point"),
+                );
+            }
+            assert!(
+                s.latch_checked && s.latch.is_none(),
+                "mirror {rref} {rload}"
+            );
             assert_genuine(&m, &b, &s, &format!("mirror {rref} {rload}"));
         }
     }
@@ -364,7 +378,14 @@ fn parallel_fixed_vbe_junctions_are_refused() {
     assert!(matches!(err, ModelError::ParallelJunctions { .. }), "{err}");
     let text = err.to_string();
     assert!(!text.contains('\n'), "{text}");
-    for word in ["Q1", "Q2", "'m'", "'gnd'", "diode law", "vbe = { volts, at, n }"] {
+    for word in [
+        "Q1",
+        "Q2",
+        "'m'",
+        "'gnd'",
+        "diode law",
+        "vbe = { volts, at, n }",
+    ] {
         assert!(text.contains(word), "{word}: {text}");
     }
     // One junction by the diode law decides the split (the fixed one sets VBE, the law gives the other's
