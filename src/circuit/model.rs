@@ -399,16 +399,14 @@ pub enum ModelError {
     #[error("the circuit has no parts; expected at least one [[circuit.part]]")]
     NoParts,
     /// Two same-polarity transistors with a fixed VBE whose base-emitter junctions are in parallel.
-    #[error("{first} and {second} have their base-emitter junctions in parallel (base '{base}', emitter '{emitter}') with a fixed VBE, which cannot say how they share the current; give both vbe by the diode law, vbe = {{ volts, at, n }}")]
+    #[error("{first} and {second} have their base-emitter junctions in parallel ({nodes}) with a fixed VBE, which cannot say how they share the current; give both vbe by the diode law, vbe = {{ volts, at, n }}")]
     ParallelJunctions {
         /// The first transistor, in part order.
         first: String,
         /// The second.
         second: String,
-        /// Their shared base node.
-        base: String,
-        /// Their shared emitter node.
-        emitter: String,
+        /// Their shared nodes, as "base 'm', emitter 'gnd'" (one field keeps the error no larger).
+        nodes: String,
     },
 }
 
@@ -632,8 +630,10 @@ impl Circuit {
                     return Err(ModelError::ParallelJunctions {
                         first: a.name.clone(),
                         second: b.name.clone(),
-                        base: self.nodes[a.pins[1]].clone(),
-                        emitter: self.nodes[a.pins[2]].clone(),
+                        nodes: format!(
+                            "base '{}', emitter '{}'",
+                            self.nodes[a.pins[1]], self.nodes[a.pins[2]]
+                        ),
                     });
                 }
             }
