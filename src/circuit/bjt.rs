@@ -6,8 +6,9 @@
 //! forward transport current, equal to IC at the edge of saturation). Cut off: no current; with the diode
 //! law, a junction whose active current would fall below [`CUTOFF_FRACTION`] of the law's reference current
 //! counts as off, as in the stage model. A diode-connected transistor (collector on its base) is never
-//! saturated: VCB = 0 keeps it at the edge, where the active equations hold. A PNP is the NPN with every voltage and current reversed
-//! (`s` = −1 below). The currents are kept in the device's own frame: positive IB and IC for normal use.
+//! saturated: VCB = 0 keeps it at the edge, where the active equations hold. A PNP is the NPN with every
+//! voltage and current reversed (`s` = −1 below). The currents are kept in the device's own frame: positive
+//! IB and IC for normal use.
 
 use super::mna::{Stamp, View};
 use super::region::{Region, Verdict};

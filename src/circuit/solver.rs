@@ -15,13 +15,16 @@
 //! on every exponential junction and a threshold guard on every conducting FET (see [`super::bjt`] and
 //! [`super::fet`]). When plain Newton does not settle within [`NEWTON_LIMIT`] steps, gmin stepping (a
 //! conductance from every node to ground, shrunk by tens to nothing) and then source stepping (every rail and
-//! source raised from zero) are tried before the assignment is given up.
+//! source raised from zero) are tried before the assignment is given up. Newton stops when the residual
+//! is at rounding level, or when its steps reach the last bits of the unknowns with the residual within
+//! [`NEAR_RESIDUAL`]; a stop on tiny steps with a larger residual (a singular system, one equation unmet) is
+//! a failure, never a solution.
 //!
 //! **Latches.** With two or more amplifying devices a circuit can have more than one operating point
 //! (Nielsen and Willson, 1980: a transistor network has a unique DC solution unless it holds a feedback
 //! structure, which takes at least two transistors; from memory). When asked, and when the assignments
 //! number at most [`LATCH_LIMIT`], every other assignment is solved too and any second consistent operating
-//! point is reported.
+//! point is reported, with that point in full ([`Latch::second`]) so that it can be checked.
 //!
 //! Everything is bounded (Newton steps, homotopy steps, assignments), so the solver always returns; a
 //! failure names the part that would not settle.
