@@ -3,7 +3,7 @@
 //! chosen here; the circuits themselves are invented scenarios.
 
 use biasfit::circuit::file::parse;
-use biasfit::circuit::{Circuit, Kind, Options, Region, Solution, Solver};
+use biasfit::circuit::{Circuit, Element, Kind, Options, Region, Solution, Solver};
 use biasfit::units::{thermal_voltage, Celsius, Ohms};
 
 fn example(name: &str) -> Circuit {
@@ -42,7 +42,7 @@ fn part<'a>(c: &Circuit, s: &'a Solution, name: &str) -> &'a biasfit::circuit::P
 fn every_example_reads_and_solves() {
     let dir = format!("{}/examples/starters", env!("CARGO_MANIFEST_DIR"));
     let mut n = 0;
-    for e in std::fs::read_dir(dir).unwrap() {
+    for e in std::fs::read_dir(&dir).unwrap() {
         let name = e.unwrap().file_name().into_string().unwrap();
         let text = std::fs::read_to_string(format!("{dir}/{name}")).unwrap();
         if !text.contains("[[circuit]]") {
@@ -224,4 +224,36 @@ fn tail_pair_is_symmetric_and_obeys_kirchhoff() {
         c.parts[c.find_part("Q1").unwrap()].kind,
         Kind::Bjt { .. }
     ));
+}
+
+#[test]
+fn mirror_follows_the_basic_current_mirror_relation() {
+    // The basic BJT current mirror with identical transistors (Sedra & Smith, Microelectronic Circuits, the
+    // BJT current mirror; from memory): IC2 = IC1, IREF = IC1·(1 + 2/β), so Iout = IREF·β/(β + 2). IREF is
+    // taken by Ohm's law from the node voltage, β from the build; the model has no Early effect, so the
+    // relation holds exactly while Q2 stays active.
+    let c = example("mirror.toml");
+    for rref in [8200.0, 4700.0, 33_000.0] {
+        let s = solve(&c, &[rref]);
+        let b = c.typical(&[Ohms(rref)]).unwrap();
+        let beta = match b.elements[c.find_part("Q2").unwrap()] {
+            Element::Bjt(q) => q.beta,
+            ref e => panic!("{e:?}"),
+        };
+        let (q1, q2) = (part(&c, &s, "Q1"), part(&c, &s, "Q2"));
+        assert_eq!(q1.region, Some(Region::Active));
+        assert_eq!(q2.region, Some(Region::Active));
+        let iref = (9.0 - v(&c, &s, "m")) / rref;
+        // Near 1 mA the junction sits near its 0.65 V: IREF ≈ (9 − 0.65)/RREF to a few per cent
+        // (hand arithmetic; the junction moves 26 mV per factor e of current).
+        assert!((iref * rref / 8.35 - 1.0).abs() < 0.02, "{iref}");
+        let near = |a: f64, b: f64| (a / b - 1.0).abs() < 1e-9;
+        assert!(near(q2.current.0, q1.current.0), "{q1:?} {q2:?}");
+        assert!(near(iref, q1.current.0 * (1.0 + 2.0 / beta)), "{iref}");
+        assert!(near(q2.current.0, iref * beta / (beta + 2.0)), "{iref}");
+        // The output by Ohm's law at RL (2k2 from the 9 V rail).
+        assert!(near((9.0 - v(&c, &s, "out")) / 2200.0, q2.current.0));
+        // One operating point: the diode-connected Q1 is never taken for saturated.
+        assert!(s.latch_checked && s.latch.is_none(), "{:?}", s.latch);
+    }
 }

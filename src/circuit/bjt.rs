@@ -5,8 +5,10 @@
 //! Active: IC = β·IB, VBE from the law at IC. Saturated: VCE = vce_sat, VBE from the law at α·IE (the
 //! forward transport current, equal to IC at the edge of saturation). Cut off: no current; with the diode
 //! law, a junction whose active current would fall below [`CUTOFF_FRACTION`] of the law's reference current
-//! counts as off, as in the stage model. A PNP is the NPN with every voltage and current reversed
-//! (`s` = −1 below). The currents are kept in the device's own frame: positive IB and IC for normal use.
+//! counts as off, as in the stage model. A diode-connected transistor (collector on its base) is never
+//! saturated: VCB = 0 keeps it at the edge, where the active equations hold. A PNP is the NPN with every
+//! voltage and current reversed (`s` = −1 below). The currents are kept in the device's own frame: positive
+//! IB and IC for normal use.
 
 use super::mna::{Stamp, View};
 use super::region::{Region, Verdict};
@@ -184,6 +186,12 @@ impl Bjt {
         let (vbe, vce) = self.voltages(pins, at);
         let (ib, ic) = self.currents(region, pins, ex, at);
         let tiny = 1e-15 * (ib.abs() + ic.abs());
+        // Collector tied to base (diode-connected): VCB = 0 at every point, the edge of saturation, where
+        // IC = β·IB still holds, so the active region covers every point the device can have. Held
+        // saturated it is not even determined: IB and IC leave the same node, KCL sees only their sum IE,
+        // and the collector's share is an unknown no equation fixes (its value is whatever the solve started
+        // from, so IB = IE − IC means nothing).
+        let diode_connected = pins[0] == pins[1];
         match region {
             Region::Active => {
                 let off = match self.law {
@@ -192,12 +200,15 @@ impl Bjt {
                 };
                 if off {
                     Verdict::Move(Region::Cutoff)
-                } else if vce < self.vce_sat - SLACK_V * (1.0 + self.vce_sat.abs()) {
+                } else if !diode_connected
+                    && vce < self.vce_sat - SLACK_V * (1.0 + self.vce_sat.abs())
+                {
                     Verdict::Move(Region::Saturation)
                 } else {
                     Verdict::Inside
                 }
             }
+            Region::Saturation if diode_connected => Verdict::Move(Region::Active),
             Region::Saturation => {
                 if (ib <= 0.0 && ic <= 0.0) || ic < -tiny {
                     Verdict::Move(Region::Cutoff)

@@ -17,7 +17,7 @@ use super::opamp::OpAmp;
 use super::reference::Reference;
 use super::region::Region;
 use super::zener::Zener;
-use crate::stage::{Limits, Polarity, Transistor};
+use crate::stage::{Limits, Polarity, Transistor, Vbe};
 use crate::units::{thermal_voltage, Amps, Celsius, Ohms, Tolerance, Volts, Watts};
 
 /// A node's index in [`Circuit::nodes`]; ground is [`GROUND`].
@@ -398,6 +398,16 @@ pub enum ModelError {
     /// A circuit with no parts.
     #[error("the circuit has no parts; expected at least one [[circuit.part]]")]
     NoParts,
+    /// Two same-polarity transistors with a fixed VBE whose base-emitter junctions are in parallel.
+    #[error("{first} and {second} have their base-emitter junctions in parallel ({nodes}) with a fixed VBE, which cannot say how they share the current; give both vbe by the diode law, vbe = {{ volts, at, n }}")]
+    ParallelJunctions {
+        /// The first transistor, in part order.
+        first: String,
+        /// The second.
+        second: String,
+        /// Their shared nodes, as "base 'm', emitter 'gnd'" (one field keeps the error no larger).
+        nodes: String,
+    },
 }
 
 /// One part's parameters at one build, as the solver uses them.
@@ -558,6 +568,7 @@ impl Circuit {
                 }
             }
         }
+        self.check_parallel_junctions()?;
         // Union-find over the DC paths; a group holding no fixed node floats.
         let mut root: Vec<usize> = (0..self.nodes.len()).collect();
         fn find(root: &mut [usize], mut a: usize) -> usize {
@@ -588,6 +599,41 @@ impl Circuit {
                         node: self.nodes[n].clone(),
                         part: p.name.clone(),
                         pin: p.kind.pin_names()[k],
+                    });
+                }
+            }
+        }
+        Ok(())
+    }
+
+    /// Refuses two fixed-VBE transistors of one polarity on the same base and emitter nodes. Both junctions
+    /// then hold the same voltage by fiat, so the equations fix only the sum of their base currents: the
+    /// Jacobian is singular and the split the solver lands on is arbitrary (once a point with one of them
+    /// active at 0 A). Splitting by symmetry would be a guess for unequal betas; the diode law decides it.
+    fn check_parallel_junctions(&self) -> Result<(), ModelError> {
+        let fixed: Vec<(usize, Polarity)> = self
+            .parts
+            .iter()
+            .enumerate()
+            .filter_map(|(i, p)| match &p.kind {
+                Kind::Bjt {
+                    polarity,
+                    transistor,
+                } if matches!(transistor.vbe, Vbe::Fixed(_)) => Some((i, *polarity)),
+                _ => None,
+            })
+            .collect();
+        for (k, &(i, pi)) in fixed.iter().enumerate() {
+            for &(j, pj) in &fixed[k + 1..] {
+                let (a, b) = (&self.parts[i], &self.parts[j]);
+                if pi == pj && a.pins[1] == b.pins[1] && a.pins[2] == b.pins[2] {
+                    return Err(ModelError::ParallelJunctions {
+                        first: a.name.clone(),
+                        second: b.name.clone(),
+                        nodes: format!(
+                            "base '{}', emitter '{}'",
+                            self.nodes[a.pins[1]], self.nodes[a.pins[2]]
+                        ),
                     });
                 }
             }

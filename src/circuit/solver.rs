@@ -15,13 +15,16 @@
 //! on every exponential junction and a threshold guard on every conducting FET (see [`super::bjt`] and
 //! [`super::fet`]). When plain Newton does not settle within [`NEWTON_LIMIT`] steps, gmin stepping (a
 //! conductance from every node to ground, shrunk by tens to nothing) and then source stepping (every rail and
-//! source raised from zero) are tried before the assignment is given up.
+//! source raised from zero) are tried before the assignment is given up. Newton stops when the residual
+//! is at rounding level, or when its steps reach the last bits of the unknowns with the residual within
+//! [`NEAR_RESIDUAL`]; a stop on tiny steps with a larger residual (a singular system, one equation unmet) is
+//! a failure, never a solution.
 //!
 //! **Latches.** With two or more amplifying devices a circuit can have more than one operating point
 //! (Nielsen and Willson, 1980: a transistor network has a unique DC solution unless it holds a feedback
 //! structure, which takes at least two transistors; from memory). When asked, and when the assignments
 //! number at most [`LATCH_LIMIT`], every other assignment is solved too and any second consistent operating
-//! point is reported.
+//! point is reported, with that point in full ([`Latch::second`]) so that it can be checked.
 //!
 //! Everything is bounded (Newton steps, homotopy steps, assignments), so the solver always returns; a
 //! failure names the part that would not settle.
@@ -40,6 +43,9 @@ pub const SEARCH_LIMIT: usize = 64;
 pub const EXHAUSTIVE_LIMIT: usize = 6561;
 /// The most assignments solved when looking for a second operating point.
 pub const LATCH_LIMIT: usize = 729;
+/// The largest relative residual a Newton iteration that has stopped moving may end on and still count as
+/// a solution (see `nearly_settled`).
+pub const NEAR_RESIDUAL: f64 = 1e-9;
 
 /// How the solver runs.
 #[derive(Clone, Copy, Debug, PartialEq)]
@@ -80,6 +86,8 @@ pub struct Latch {
     pub parts: Vec<String>,
     /// How many distinct operating points were found.
     pub points: usize,
+    /// The first other operating point found, in full: its nodes, parts, regions and residuals.
+    pub second: Box<Solution>,
 }
 
 /// The DC operating point.
@@ -151,6 +159,8 @@ pub struct Solver<'c> {
     fixed: Vec<f64>,
     scaled: Vec<f64>,
     first_extra: Vec<usize>,
+    /// The number of free nodes: the residual's first rows are their currents, the rest constraints.
+    free: usize,
     n: usize,
     x: Vec<f64>,
     trial: Vec<f64>,
@@ -220,6 +230,7 @@ impl<'c> Solver<'c> {
             scaled: fixed.clone(),
             fixed,
             first_extra,
+            free,
             n,
             x: vec![0.0; n],
             trial: vec![0.0; n],
@@ -308,6 +319,22 @@ impl<'c> Solver<'c> {
             .all(|((f, s), fl)| f.is_finite() && f.abs() <= 1e-13 * s + fl + 1e-300)
     }
 
+    /// Whether the assembled residual is small enough to be a solution held back only by rounding the
+    /// floor does not model: every node's current residual within [`NEAR_RESIDUAL`] of the currents meeting
+    /// there (the bound [`Solution::residuals`] is held to), every constraint within that fraction of the
+    /// largest rail.
+    fn nearly_settled(&self) -> bool {
+        self.f
+            .iter()
+            .zip(&self.scale)
+            .zip(&self.floor)
+            .enumerate()
+            .all(|(k, ((f, s), fl))| {
+                let against = if k < self.free { *s } else { self.volts_scale };
+                f.is_finite() && f.abs() <= NEAR_RESIDUAL * against + fl + 1e-300
+            })
+    }
+
     /// Newton's method from `self.x` on one assignment at one homotopy point.
     fn newton(
         &mut self,
@@ -320,8 +347,13 @@ impl<'c> Solver<'c> {
         let mut tiny_steps = 0;
         for _ in 0..NEWTON_LIMIT {
             self.assemble(build, regions, gmin, lambda);
-            if self.settled() || tiny_steps >= 2 {
-                return if self.f.iter().all(|f| f.is_finite()) {
+            let settled = self.settled();
+            if settled || tiny_steps >= 2 {
+                // Steps at the last bits end the iteration, but only a residual near rounding makes the point
+                // a solution: where the Jacobian is singular (an unknown no equation fixes, such as the
+                // collector's share of a diode-connected transistor held saturated) the LU gives zero steps
+                // along it and one equation is simply left unmet.
+                return if settled || self.nearly_settled() {
                     Ok(())
                 } else {
                     Err(Fail::Stalled(blame.unwrap_or_else(|| self.worst_part())))
@@ -695,6 +727,7 @@ impl<'c> Solver<'c> {
         let total = self.combinations()?;
         let mut differing: Vec<usize> = Vec::new();
         let mut points: Vec<Vec<f64>> = vec![at.to_vec()];
+        let mut second = None;
         for k in 0..total {
             let cand = self.nth_assignment(k);
             if cand == found {
@@ -706,10 +739,13 @@ impl<'c> Solver<'c> {
                 let new = points.iter().all(|p| {
                     p.iter()
                         .zip(&self.x)
-                        .take(self.free_nodes())
+                        .take(self.free)
                         .any(|(a, b)| (a - b).abs() > 1e-6 * size)
                 });
                 if new {
+                    if second.is_none() {
+                        second = Some(self.report(build, &cand, None, false));
+                    }
                     points.push(self.x.clone());
                     for &i in &self.piecewise {
                         if cand[i] != found[i] && !differing.contains(&i) {
@@ -719,17 +755,14 @@ impl<'c> Solver<'c> {
                 }
             }
         }
-        (points.len() > 1).then(|| Latch {
+        second.map(|second| Latch {
             parts: differing
                 .iter()
                 .map(|&i| self.circuit.parts[i].name.clone())
                 .collect(),
             points: points.len(),
+            second: Box::new(second),
         })
-    }
-
-    fn free_nodes(&self) -> usize {
-        self.var.iter().filter(|&&k| k != FIXED).count()
     }
 
     /// The report of the solution in `self.x`.
