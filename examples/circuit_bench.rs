@@ -110,7 +110,7 @@ fn closed_per_solve(s: &Stage, sets: &[SlotValues], n: usize) -> f64 {
 }
 
 fn pair() -> Circuit {
-    let text = include_str!("circuits/tail-pair.toml");
+    let text = include_str!("starters/tail-pair.toml");
     biasfit::circuit::file::parse("tail-pair.toml", text)
         .unwrap()
         .remove(0)

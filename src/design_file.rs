@@ -67,18 +67,31 @@ impl DesignFile {
 /// Why a design file was refused.
 #[derive(Debug, thiserror::Error)]
 pub enum DesignFileError {
-    /// A `[[stage]]` table, or the file itself, was refused.
+    /// A `[[stage]]` table, or the file itself, was refused (boxed: the readers' errors carry whole
+    /// texts, and a `Result` should stay small).
     #[error(transparent)]
-    Stage(#[from] DesignError),
+    Stage(Box<DesignError>),
     /// A `[[circuit]]` table was refused.
     #[error(transparent)]
-    Circuit(#[from] CircuitFileError),
+    Circuit(Box<CircuitFileError>),
     /// The file holds neither.
     #[error("{file}: no [[stage]] or [[circuit]] tables; expected at least one, starting with a line [[stage]] or [[circuit]]")]
     Empty {
         /// The file.
         file: String,
     },
+}
+
+impl From<DesignError> for DesignFileError {
+    fn from(e: DesignError) -> DesignFileError {
+        DesignFileError::Stage(Box::new(e))
+    }
+}
+
+impl From<CircuitFileError> for DesignFileError {
+    fn from(e: CircuitFileError) -> DesignFileError {
+        DesignFileError::Circuit(Box::new(e))
+    }
 }
 
 /// Reads a design file from disk.

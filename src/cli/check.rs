@@ -280,7 +280,13 @@ fn check_circuit(
     if let Some(path) = &args.drawings.html {
         let title = format!("{} ({})", c.name, args.file.display());
         let page = biasfit::report::html::circuit_sheet(&title, &circuit, &report.cautions);
-        outputs.write("--html", path, super::output::Kind::Html, page.as_bytes(), out)?;
+        outputs.write(
+            "--html",
+            path,
+            super::output::Kind::Html,
+            page.as_bytes(),
+            out,
+        )?;
         if !super::output::to_stdout(path) {
             super::output::note(&format!("wrote {}", path.display()));
         }

@@ -214,30 +214,6 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     }
 }
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-
-    #[test]
-    fn reads_temperature_ranges() {
-        for (s, lo, hi) in [
-            ("-20..70", -20.0, 70.0),
-            ("0..50", 0.0, 50.0),
-            (" -10 .. 85 °C", -10.0, 85.0),
-            ("25..25", 25.0, 25.0),
-            ("−40..125", -40.0, 125.0),
-        ] {
-            let (a, b) = parse_range(s).unwrap_or_else(|_| panic!("{s}"));
-            assert_eq!((a.0, b.0), (lo, hi), "{s}");
-        }
-        for s in [
-            "", "20", "70..-20", "a..b", "-300..0", "0..1e9", "NaN..1", "0..301",
-        ] {
-            assert!(parse_range(s).is_err(), "{s}");
-        }
-    }
-}
-
 /// `spread` on a circuit of the user's own, built from `--use`.
 fn spread_circuit(
     args: &SpreadArgs,
@@ -280,5 +256,29 @@ fn spread_circuit(
         out.json(&report)
     } else {
         out.text(&render_spread(&report))
+    }
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+
+    #[test]
+    fn reads_temperature_ranges() {
+        for (s, lo, hi) in [
+            ("-20..70", -20.0, 70.0),
+            ("0..50", 0.0, 50.0),
+            (" -10 .. 85 °C", -10.0, 85.0),
+            ("25..25", 25.0, 25.0),
+            ("−40..125", -40.0, 125.0),
+        ] {
+            let (a, b) = parse_range(s).unwrap_or_else(|_| panic!("{s}"));
+            assert_eq!((a.0, b.0), (lo, hi), "{s}");
+        }
+        for s in [
+            "", "20", "70..-20", "a..b", "-300..0", "0..1e9", "NaN..1", "0..301",
+        ] {
+            assert!(parse_range(s).is_err(), "{s}");
+        }
     }
 }

@@ -101,7 +101,7 @@ pub struct CircuitReport {
 fn network_rating(net: &Network) -> Option<Watts> {
     let shares = net.member_powers(crate::units::Amps(1.0));
     let total: f64 = shares.iter().map(|w| w.0).sum();
-    if !(total > 0.0) {
+    if total.is_nan() || total <= 0.0 {
         return None;
     }
     net.members()

@@ -451,82 +451,6 @@ const FOOTER: &str = "<footer>biasfit does arithmetic; it does not make a circui
      supplies of 50 V DC or more, and anything mains-powered, are for people trained and licensed for them. \
      Follow your local electrical codes.</footer>\n";
 
-#[cfg(test)]
-mod tests {
-    use super::*;
-    use crate::network::Member;
-    use crate::stage::parse;
-    use crate::units::Watts;
-
-    fn part(ohms: f64, location: &str) -> Network {
-        let mut m = Member::loose(Ohms(ohms), Tolerance(0.05), Watts(0.25));
-        m.location = Some(location.to_string());
-        Network::Single(m)
-    }
-
-    fn sheet_stage(copies: u32) -> SheetStage {
-        let st = parse(
-            "s.toml",
-            "[[stage]]\nname = \"tone <stage> & co\"\ntopology = \"divider\"\npolarity = \"npn\"\nsupply = 15\n\
-             load = \"3k9\"\n[stage.transistor]\nbeta = [90, 160, 320]\nvbe = 0.62\nvce_sat = 0.15\n",
-        )
-        .unwrap()
-        .stages
-        .remove(0);
-        let nets = SlotNetworks::from_pairs([
-            (
-                Slot::R1,
-                Network::Series(vec![part(56e3, "A1"), part(6.8e3, "A2")]),
-            ),
-            (
-                Slot::R2,
-                Network::Parallel(vec![part(12e3, "B1"), part(150e3, "B2")]),
-            ),
-            (Slot::RC, part(3.9e3, "C1")),
-            (Slot::RE, part(820.0, "A1")),
-        ]);
-        SheetStage::new(&st, &nets, copies)
-    }
-
-    #[test]
-    fn pick_list_counts_members_times_boards() {
-        let s = sheet_stage(3);
-        let p = pick_list(std::slice::from_ref(&s));
-        // Six parts, each once per board; A1 holds two values (56k and 820R), sorted by drawer then value.
-        assert_eq!(p.len(), 6);
-        assert!(p.iter().all(|l| l.count == 3));
-        assert_eq!(p[0].location.as_deref(), Some("A1"));
-        assert_eq!(p[0].ohms, 820.0);
-        assert_eq!(p[1].ohms, 56e3);
-    }
-
-    #[test]
-    fn the_page_holds_every_part_escaped_and_no_fetches() {
-        let s = sheet_stage(1);
-        let pick = pick_list(std::slice::from_ref(&s));
-        let html = build_sheet(
-            "bench <demo>",
-            std::slice::from_ref(&s),
-            &pick,
-            &["hot & high".into()],
-        );
-        assert!(html.contains("@page { size: A4;"));
-        assert!(html.contains("tone &lt;stage&gt; &amp; co"));
-        assert!(!html.contains("<stage>"));
-        assert!(html.contains("hot &amp; high"));
-        for v in [
-            "56k", "6k8", "12k", "150k", "3k9", "820R", "56k+6k8", "12k|150k",
-        ] {
-            assert!(html.contains(v), "{v}");
-        }
-        for fetch in ["<script", "src=", "href=\"http", "@import", "url("] {
-            assert!(!html.contains(fetch), "{fetch}");
-        }
-        // The drawings are inline.
-        assert_eq!(html.matches("<svg ").count(), 2);
-    }
-}
-
 /// The build sheet of a circuit of the user's own: the parts to fit, the readings to expect from real
 /// ground, every part at the operating point, the targets and the checks, as plain tables.
 pub fn circuit_sheet(
@@ -685,4 +609,80 @@ pub fn circuit_sheet(
     out.push_str(FOOTER);
     out.push_str("</body>\n</html>\n");
     out
+}
+
+#[cfg(test)]
+mod tests {
+    use super::*;
+    use crate::network::Member;
+    use crate::stage::parse;
+    use crate::units::Watts;
+
+    fn part(ohms: f64, location: &str) -> Network {
+        let mut m = Member::loose(Ohms(ohms), Tolerance(0.05), Watts(0.25));
+        m.location = Some(location.to_string());
+        Network::Single(m)
+    }
+
+    fn sheet_stage(copies: u32) -> SheetStage {
+        let st = parse(
+            "s.toml",
+            "[[stage]]\nname = \"tone <stage> & co\"\ntopology = \"divider\"\npolarity = \"npn\"\nsupply = 15\n\
+             load = \"3k9\"\n[stage.transistor]\nbeta = [90, 160, 320]\nvbe = 0.62\nvce_sat = 0.15\n",
+        )
+        .unwrap()
+        .stages
+        .remove(0);
+        let nets = SlotNetworks::from_pairs([
+            (
+                Slot::R1,
+                Network::Series(vec![part(56e3, "A1"), part(6.8e3, "A2")]),
+            ),
+            (
+                Slot::R2,
+                Network::Parallel(vec![part(12e3, "B1"), part(150e3, "B2")]),
+            ),
+            (Slot::RC, part(3.9e3, "C1")),
+            (Slot::RE, part(820.0, "A1")),
+        ]);
+        SheetStage::new(&st, &nets, copies)
+    }
+
+    #[test]
+    fn pick_list_counts_members_times_boards() {
+        let s = sheet_stage(3);
+        let p = pick_list(std::slice::from_ref(&s));
+        // Six parts, each once per board; A1 holds two values (56k and 820R), sorted by drawer then value.
+        assert_eq!(p.len(), 6);
+        assert!(p.iter().all(|l| l.count == 3));
+        assert_eq!(p[0].location.as_deref(), Some("A1"));
+        assert_eq!(p[0].ohms, 820.0);
+        assert_eq!(p[1].ohms, 56e3);
+    }
+
+    #[test]
+    fn the_page_holds_every_part_escaped_and_no_fetches() {
+        let s = sheet_stage(1);
+        let pick = pick_list(std::slice::from_ref(&s));
+        let html = build_sheet(
+            "bench <demo>",
+            std::slice::from_ref(&s),
+            &pick,
+            &["hot & high".into()],
+        );
+        assert!(html.contains("@page { size: A4;"));
+        assert!(html.contains("tone &lt;stage&gt; &amp; co"));
+        assert!(!html.contains("<stage>"));
+        assert!(html.contains("hot &amp; high"));
+        for v in [
+            "56k", "6k8", "12k", "150k", "3k9", "820R", "56k+6k8", "12k|150k",
+        ] {
+            assert!(html.contains(v), "{v}");
+        }
+        for fetch in ["<script", "src=", "href=\"http", "@import", "url("] {
+            assert!(!html.contains(fetch), "{fetch}");
+        }
+        // The drawings are inline.
+        assert_eq!(html.matches("<svg ").count(), 2);
+    }
 }

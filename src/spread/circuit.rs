@@ -273,7 +273,7 @@ pub fn spread_circuit(
         ));
     }
     let (lo, hi) = options.temperatures;
-    if !(lo.0 <= hi.0) {
+    if lo.0.is_nan() || hi.0.is_nan() || lo.0 > hi.0 {
         return Err(CircuitSpreadError::Options(format!(
             "the temperature range {lo} .. {hi} is not a range; expected the lower end first"
         )));
