@@ -291,3 +291,48 @@ fn the_circuit_build_sheet_holds_every_node_part_target_and_check() {
     assert!(stderr(&svg).contains("--html FILE writes the circuit's build sheet"));
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+#[test]
+fn the_docs_show_real_circuit_output() {
+    let docs = user_docs();
+    for (args, shown) in [
+        (
+            vec!["check", LEDS, "--use", "R1=470"],
+            "$ biasfit check examples/starters/led-string.toml --use R1=470\n",
+        ),
+        (
+            vec![
+                "spread",
+                "examples/starters/follower.toml",
+                "--use",
+                "R1=9k1,R2=10k",
+            ],
+            "$ biasfit spread examples/starters/follower.toml --use R1=9k1,R2=10k\n",
+        ),
+        (
+            vec![
+                "verify",
+                "examples/starters/tail-pair.toml",
+                "--use",
+                "RT=7k5",
+                "--measured",
+                "c1=3.2",
+            ],
+            "$ biasfit verify examples/starters/tail-pair.toml --use RT=7k5 --measured c1=3.2\n",
+        ),
+        (vec!["new"], "$ biasfit new\n"),
+    ] {
+        let out = stdout(&biasfit(&args));
+        let block = format!("{shown}{out}");
+        assert!(
+            docs.contains(&block),
+            "the docs' output of {args:?} is stale; it is now:\n{out}"
+        );
+    }
+    // The README's complete example is the shipped starter, byte for byte.
+    let led = std::fs::read_to_string(root().join(LEDS)).unwrap();
+    assert!(
+        docs.contains(&format!("```toml\n{led}```")),
+        "README's LED string differs from the starter"
+    );
+}
