@@ -259,6 +259,14 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     }
 }
 
+/// A built circuit that cannot be solved: bad input, said with what to look at.
+pub fn unbuildable(file: &std::path::Path, e: &dyn std::fmt::Display) -> Failure {
+    Failure::Input(format!(
+        "--use: {e}; check the values given and the circuit's pins in {}",
+        file.display()
+    ))
+}
+
 /// `check` on a circuit of the user's own: solve it built from the given networks, then judge it.
 fn check_circuit(
     args: &CheckArgs,
@@ -275,7 +283,7 @@ fn check_circuit(
             c.name
         )));
     }
-    let circuit = CircuitReport::new(c, &nets).map_err(super::input)?;
+    let circuit = CircuitReport::new(c, &nets).map_err(|e| unbuildable(&args.file, &e))?;
     let report = Report::of(Vec::new(), vec![circuit.clone()]);
     if let Some(path) = &args.drawings.html {
         let title = format!("{} ({})", c.name, args.file.display());

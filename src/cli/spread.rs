@@ -248,9 +248,10 @@ fn spread_circuit(
         ..Options::default()
     };
     let progress = super::output::Progress::start("spreading");
+    let report = biasfit::report::circuit::CircuitReport::new(c, &nets)
+        .map_err(|e| super::check::unbuildable(&args.file, &e))?;
     let spread = biasfit::spread::circuit::spread_circuit(c, &nets, tol, &opts).map_err(input)?;
     drop(progress);
-    let report = biasfit::report::circuit::CircuitReport::new(c, &nets).map_err(input)?;
     let report = biasfit::report::spread::SpreadReport::of_circuit(report, spread);
     if args.json {
         out.json(&report)

@@ -103,7 +103,8 @@ fn verify_circuit(
     let (tol, watts) = args.parts.resolve()?;
     let nets = super::check::circuit_networks(c, &args.slots, tol, watts)?;
     let progress = super::output::Progress::start("simulating faults");
-    let v = verify_circuit(c, &nets, &readings).map_err(super::input)?;
+    let v = verify_circuit(c, &nets, &readings)
+        .map_err(|e| super::check::unbuildable(&args.file, &e))?;
     drop(progress);
     let report = CircuitVerifyReport::new(c, &v);
     let built = c
