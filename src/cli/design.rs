@@ -65,9 +65,10 @@ pub struct DesignArgs {
     #[arg(long, value_name = "K", default_value_t = 200, allow_negative_numbers = true,
           value_parser = whole::<u32>(1, 100_000, "a number of variants per stage"))]
     pub variants: u32,
-    /// Stop after this many seconds and report the best verified design found
-    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
-    pub time_limit: Option<Duration>,
+    /// Stop after this many seconds, reading and search together, and report the best verified design found
+    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds,
+          default_value = super::flags::DEFAULT_TIME_LIMIT)]
+    pub time_limit: Duration,
     #[command(flatten)]
     pub defaults: DefaultArgs,
     #[command(flatten)]
@@ -164,6 +165,8 @@ pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec
 
 /// Runs `biasfit design`.
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
+    // One deadline for the whole command, reading the files included.
+    let started = std::time::Instant::now();
     let (design_file, _) = stages(&args.file, None)?;
     let stock = load_stock(&args.stock, &args.defaults)?;
     let request = Request {
@@ -172,7 +175,8 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
         keep: keeps(&design_file, &args)?,
         variants: args.variants as usize,
         alternatives: args.alternatives,
-        time_limit: args.time_limit,
+        time_limit: Some(args.time_limit),
+        deadline: Some(started + args.time_limit),
         robust: args.robust,
         robust_temp: args
             .temp
@@ -181,15 +185,15 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
             .transpose()?,
         ..Request::default()
     };
-    let progress = Progress::start("searching");
+    let progress = Progress::start("searching", Some((started, args.time_limit)));
     let outcome = design(&design_file, &stock, &request, &mut |p| progress.phase(p));
     drop(progress);
     let outcome = match outcome {
         Ok(o) => o,
+        Err(e @ DesignError::TimedOut(_)) => return Err(Failure::TimedOut(e.to_string())),
         Err(
             e @ (DesignError::Infeasible { .. }
             | DesignError::Scarce(_)
-            | DesignError::TimedOut(_)
             | DesignError::EmptyStock(_)),
         ) => return Err(Failure::Infeasible(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),

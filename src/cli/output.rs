@@ -96,8 +96,12 @@ pub struct Progress {
 }
 
 impl Progress {
-    /// Starts the indicator (a no-op when stderr is not a terminal).
-    pub fn start(first: &str) -> Progress {
+    /// Starts the indicator (a no-op when stderr is not a terminal); with a time limit (the command's start
+    /// and its limit), the line shows the time used against it.
+    pub fn start(
+        first: &str,
+        limit: Option<(std::time::Instant, std::time::Duration)>,
+    ) -> Progress {
         use std::sync::atomic::{AtomicBool, Ordering};
         use std::sync::{Arc, Mutex};
         let phase = Arc::new(Mutex::new(first.to_string()));
@@ -115,11 +119,15 @@ impl Progress {
                         continue;
                     }
                     let text = phase.lock().map(|p| one_line(&p)).unwrap_or_default();
-                    eprint!(
-                        "\r\x1b[2K{} {text} ({:.0} s)",
-                        frames[i % 4],
-                        started.elapsed().as_secs_f64()
-                    );
+                    let clock = match limit {
+                        Some((from, l)) => format!(
+                            "{:.0} s of {:.0} s",
+                            from.elapsed().as_secs_f64(),
+                            l.as_secs_f64().max(1.0)
+                        ),
+                        None => format!("{:.0} s", started.elapsed().as_secs_f64()),
+                    };
+                    eprint!("\r\x1b[2K{} {text} ({clock})", frames[i % 4]);
                     shown = true;
                     i += 1;
                 }

@@ -180,6 +180,20 @@ pub struct Effort {
     pub accepted: u64,
     /// Whether the deadline stopped the search before it finished (the variants are then the best found).
     pub cut_short: bool,
+    /// The error below which the search has proven it holds every variant: infinite when it finished, else
+    /// the bound of the last pass it completed (0 when it completed none). So no variant of the stage has an
+    /// error below the smaller of this and the best variant found.
+    pub floor: f64,
+}
+
+impl Effort {
+    /// The proven lower bound on the stage's error given the best variant found (None: none found).
+    pub fn proven_floor(&self, best: Option<f64>) -> f64 {
+        match best {
+            Some(b) => b.min(self.floor),
+            None => self.floor.min(GIVE_UP),
+        }
+    }
 }
 
 /// The `k` best variants whose error is below [`GIVE_UP`], best first, meeting every hard constraint and
@@ -192,16 +206,34 @@ pub fn best_variants(
     stock: &[u32],
     deadline: Option<Instant>,
 ) -> (Vec<Found>, Effort) {
-    let mut effort = Effort::default();
+    let mut effort = Effort {
+        floor: f64::INFINITY,
+        ..Effort::default()
+    };
     if k == 0 || candidates.iter().any(|c| c.is_empty()) {
         return (Vec::new(), effort);
     }
+    // Outer slots other than the emitter ones, each visited from its ideal value outward; the emitter slots
+    // come last, where the bound narrows them to a window. The visiting order is the same in every pass.
+    let plain: Vec<usize> = order
+        .outer
+        .iter()
+        .copied()
+        .filter(|s| !order.emitter.contains(s))
+        .collect();
+    let orders = visiting_order(model, order, candidates, &plain, deadline, &mut effort);
     // Grow the bound until K variants lie below it: each pass finds every variant below its bound, so the
     // first pass that finds K of them has found the K best.
     // Start tight: on a dense stock a loose first bound would admit astronomically many near-misses before
     // the K best are in hand; on a sparse one the tight passes cost next to nothing.
     let mut cap = 1e-4;
+    // What the last completed pass found: every variant below its bound, all verified.
+    let mut before: Vec<Found> = Vec::new();
+    let mut proven_below = 0.0;
     loop {
+        if effort.cut_short {
+            break;
+        }
         let heap = pass(
             model,
             order,
@@ -209,16 +241,42 @@ pub fn best_variants(
             k,
             stock,
             cap,
+            &plain,
+            &orders,
             deadline,
             &mut effort,
         );
-        if heap.len() >= k || cap >= GIVE_UP || effort.cut_short {
-            let mut found: Vec<Found> = heap.into_sorted_vec().into_iter().map(|e| e.0).collect();
+        let mut found: Vec<Found> = heap.into_sorted_vec().into_iter().map(|e| e.0).collect();
+        if effort.cut_short {
+            // The pass cut short holds some of the variants it would have found; the pass before holds all
+            // below its bound. Together they are the best verified variants in hand.
+            for f in before.drain(..) {
+                if !found.iter().any(|g| g.picks == f.picks) {
+                    found.push(f);
+                }
+            }
+            found.sort_by(|a, b| {
+                a.error
+                    .total_cmp(&b.error)
+                    .then(a.parts.cmp(&b.parts))
+                    .then_with(|| a.picks.cmp(&b.picks))
+            });
             found.truncate(k);
+            effort.floor = proven_below;
             return (found, effort);
         }
+        if found.len() >= k || cap >= GIVE_UP {
+            found.truncate(k);
+            effort.floor = f64::INFINITY;
+            return (found, effort);
+        }
+        before = found;
+        proven_below = cap;
         cap = (cap * 3.0).min(GIVE_UP);
     }
+    // The deadline passed while the visiting order was worked out: nothing verified yet.
+    effort.floor = 0.0;
+    (Vec::new(), effort)
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -229,6 +287,8 @@ fn pass(
     k: usize,
     stock: &[u32],
     cap: f64,
+    plain: &[usize],
+    orders: &[Vec<usize>],
     deadline: Option<Instant>,
     effort: &mut Effort,
 ) -> BinaryHeap<Entry> {
@@ -244,18 +304,10 @@ fn pass(
         values: candidates.iter().map(|c| c[0].ohms).collect(),
         picks: vec![0usize; n],
         deadline,
+        ticks: 0,
         effort,
     };
-    // Outer slots other than the emitter ones, each visited from its ideal value outward; the emitter slots
-    // come last, where the bound narrows them to a window.
-    let plain: Vec<usize> = order
-        .outer
-        .iter()
-        .copied()
-        .filter(|s| !order.emitter.contains(s))
-        .collect();
-    let orders = visiting_order(model, order, candidates, &plain, state.effort);
-    state.outer(&plain, &orders, 0);
+    state.outer(plain, orders, 0);
     state.heap
 }
 
@@ -272,6 +324,7 @@ fn visiting_order(
     order: &Order,
     candidates: &[Vec<Candidate>],
     plain: &[usize],
+    deadline: Option<Instant>,
     effort: &mut Effort,
 ) -> Vec<Vec<usize>> {
     let nearest = |slot: usize| {
@@ -294,12 +347,21 @@ fn visiting_order(
     } else {
         &ALL
     };
+    let mut turns = 0u32;
     plain
         .iter()
         .map(|&slot| {
             let list = &candidates[slot];
             let mut keyed: Vec<(bool, f64, usize)> = (0..list.len())
-                .map(|i| {
+                .map_while(|i| {
+                    // Each probe is a few dozen solves: the clock is read every 64th.
+                    turns = turns.wrapping_add(1);
+                    if effort.cut_short
+                        || (turns % 64 == 0 && deadline.is_some_and(|d| Instant::now() >= d))
+                    {
+                        effort.cut_short = true;
+                        return None;
+                    }
                     let mut values = base.clone();
                     values[slot] = list[i].ohms;
                     if let Some(c) = order.collector {
@@ -317,7 +379,7 @@ fn visiting_order(
                         values[c] = base[c];
                     }
                     effort.evaluations += 1;
-                    (!model.electrical_ok(&values), b, i)
+                    Some((!model.electrical_ok(&values), b, i))
                 })
                 .collect();
             keyed.sort_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1)));
@@ -338,6 +400,8 @@ struct Pass<'a> {
     values: Vec<Ohms>,
     picks: Vec<usize>,
     deadline: Option<Instant>,
+    /// Calls of [`Pass::expired`] since the clock was last read.
+    ticks: u32,
     effort: &'a mut Effort,
 }
 
@@ -362,7 +426,12 @@ impl Pass<'_> {
     fn expired(&mut self) -> bool {
         if !self.effort.cut_short {
             if let Some(d) = self.deadline {
-                self.effort.cut_short = Instant::now() >= d;
+                // A call is one outer assignment or one scan, microseconds of work: read the clock every
+                // 16th, so the check is cheap and still at most a few milliseconds late.
+                self.ticks = self.ticks.wrapping_add(1);
+                if self.ticks % 16 == 1 {
+                    self.effort.cut_short = Instant::now() >= d;
+                }
             }
         }
         self.effort.cut_short
@@ -447,6 +516,10 @@ impl Pass<'_> {
             })
         };
         scan_both_sides(best_scan, scan_len, &mut |i| {
+            // A loose bound can make one scan long: it stops at the deadline too.
+            if self.expired() {
+                return false;
+            }
             self.set(order.scan, i);
             self.effort.evaluations += 1;
             let d = self.model.deviations(&self.values);
@@ -484,6 +557,9 @@ impl Pass<'_> {
                             })
                         };
                         scan_range(best_c, from, to, &mut |j| {
+                            if self.expired() {
+                                return false;
+                            }
                             self.set(c, j);
                             self.effort.evaluations += 1;
                             let e = largest(&self.model.deviations(&self.values), &ALL);
