@@ -69,6 +69,11 @@ pub struct DesignArgs {
     #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds,
           default_value = super::flags::DEFAULT_TIME_LIMIT)]
     pub time_limit: Duration,
+    /// For tests: cut each stage's search after this many error evaluations, as the time limit would, at
+    /// the same place on every machine
+    #[arg(long, value_name = "N", hide = true,
+          value_parser = whole::<u64>(0, u64::MAX, "a number of error evaluations"))]
+    pub search_budget: Option<u64>,
     #[command(flatten)]
     pub defaults: DefaultArgs,
     #[command(flatten)]
@@ -177,6 +182,7 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
         alternatives: args.alternatives,
         time_limit: Some(args.time_limit),
         deadline: Some(started + args.time_limit),
+        search_budget: args.search_budget,
         robust: args.robust,
         robust_temp: args
             .temp

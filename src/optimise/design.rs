@@ -3,7 +3,8 @@
 //! baseline and, when nothing fits, the constraint that binds.
 
 use super::search::{
-    best_variants, Deviations, Effort, Evaluate, Found, GainWindow, Order, GAIN, IC, RC, VCE, VE,
+    best_variants, best_variants_within, Deviations, Effort, Evaluate, Found, GainWindow, Order,
+    Stop, GAIN, IC, RC, VCE, VE,
 };
 use super::share::{allocate, ShareError, Variant};
 use crate::network::candidates::{Candidate, Cut, Index};
@@ -33,6 +34,9 @@ pub struct Request {
     /// Stop at this instant at the latest: a command computes it once, when it starts, so that reading its
     /// files counts against its time limit too. The earlier of this and `time_limit` from the call wins.
     pub deadline: Option<Instant>,
+    /// Cut each stage's search after this many error evaluations, as the time limit would: the same cut on
+    /// every machine, for tests and repeatable benchmarks.
+    pub search_budget: Option<u64>,
     /// Each slot's candidates lie within this factor of its ideal value.
     pub window: f64,
     /// Choose by the worst-case error over tolerance, beta and temperature instead of the nominal error. The
@@ -81,6 +85,7 @@ impl Default for Request {
             alternatives: 0,
             time_limit: None,
             deadline: None,
+            search_budget: None,
             window: 3.0,
             robust: false,
             robust_temp: None,
@@ -187,7 +192,7 @@ pub enum DesignError {
     },
     /// The time limit passed before any design was found: the text names where (a stage, or the sharing of
     /// the stock).
-    #[error("{0}: the time limit passed before any design was found; allow more --time-limit (seconds), or narrow the search with fewer --parts or --variants")]
+    #[error("{0}: the time limit passed before any design was found; raise --time-limit (seconds; the default is 60), or narrow the search with fewer --parts or --variants")]
     TimedOut(String),
     /// The stock cannot cover every board.
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
@@ -391,8 +396,54 @@ pub fn design(
     let started = Instant::now();
     let mut attempt = request.clone();
     attempt.deadline = request.deadline_from(started);
+    // Under a limit, a design of single parts first, from a tenth of the time: it costs little (a window
+    // of singles is a binary search) and is a verified design to fall back on should the full search run
+    // out of time before it holds one.
+    let fallback = (request.max_parts > 1 && (attempt.deadline.is_some() || request.search_budget.is_some()))
+        .then(|| {
+            let mut quick = attempt.clone();
+            quick.max_parts = 1;
+            quick.alternatives = 0;
+            quick.deadline = attempt.deadline.map(|d| {
+                let now = Instant::now();
+                now + d.saturating_duration_since(now) / 10
+            });
+            progress("a first design of single parts");
+            design_once(design, stock, &quick, &mut |_| {}).ok()
+        })
+        .flatten();
+    let full = design_full(design, stock, &mut attempt, progress);
+    let fall_back = |mut f: Outcome, bound: Option<f64>| {
+        f.solver.status = "time limit".into();
+        f.solver.result = "best found".into();
+        f.solver.bound = bound;
+        f.solver.seconds = started.elapsed().as_secs_f64();
+        f.notes.push(
+            "the full search ran out of time: this design uses single parts, found first".into(),
+        );
+        f
+    };
+    let worst = |o: &Outcome| o.built.iter().map(|b| b.error).fold(0.0, f64::max);
+    match (full, fallback) {
+        (Ok(o), Some(f)) if !o.solver.optimal() && worst(&f) < worst(&o) => {
+            // The full search's bound holds for every design, the single-part one included.
+            let bound = o.solver.bound.map(|b| b.min(worst(&f)));
+            Ok(fall_back(f, bound))
+        }
+        (Err(DesignError::TimedOut(_)), Some(f)) => Ok(fall_back(f, None)),
+        (other, _) => other,
+    }
+}
+
+/// [`design`] without the fallback: the full search, retried with more variants while the stock is scarce.
+fn design_full(
+    design: &Design,
+    stock: &Stock,
+    attempt: &mut Request,
+    progress: &mut dyn FnMut(&str),
+) -> Result<Outcome, DesignError> {
     loop {
-        match design_once(design, stock, &attempt, progress) {
+        match design_once(design, stock, attempt, progress) {
             Err(DesignError::Scarce(_)) if attempt.variants < MAX_VARIANTS => {
                 if attempt.deadline.is_some_and(|d| Instant::now() >= d) {
                     // More variants might have covered the boards, but there is no time to look.
@@ -528,8 +579,12 @@ fn design_once(
         }
         let order = solve_order(stage.topology, &slots, &ideal.values, &stage.targets());
         let k = request.variants.max(request.alternatives + 1);
+        let stop = Stop {
+            deadline: stage_deadline,
+            evaluations: request.search_budget,
+        };
         let (found, effort): (Vec<Found>, Effort) =
-            best_variants(&model, &order, &candidates, k, &on_hand, stage_deadline);
+            best_variants_within(&model, &order, &candidates, k, &on_hand, stop);
         evaluations += effort.evaluations;
         cut_short |= effort.cut_short;
         if found.is_empty() && effort.cut_short {

@@ -196,6 +196,23 @@ impl Effort {
     }
 }
 
+/// When a search stops short of finishing.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct Stop {
+    /// The instant to stop by.
+    pub deadline: Option<Instant>,
+    /// The most error evaluations to make: a limit that does not depend on the machine's speed, so that a
+    /// test (or a benchmark to be repeated) cuts the search at the same place every run.
+    pub evaluations: Option<u64>,
+}
+
+impl Stop {
+    /// Whether either limit is set.
+    pub fn any(&self) -> bool {
+        self.deadline.is_some() || self.evaluations.is_some()
+    }
+}
+
 /// The `k` best variants whose error is below [`GIVE_UP`], best first, meeting every hard constraint and
 /// never asking one board for more of a part than `stock` holds.
 pub fn best_variants(
@@ -205,6 +222,23 @@ pub fn best_variants(
     k: usize,
     stock: &[u32],
     deadline: Option<Instant>,
+) -> (Vec<Found>, Effort) {
+    let stop = Stop {
+        deadline,
+        evaluations: None,
+    };
+    best_variants_within(model, order, candidates, k, stock, stop)
+}
+
+/// [`best_variants`], stopping at the deadline or after a number of evaluations, whichever comes first;
+/// cut short, it returns the best verified variants in hand.
+pub fn best_variants_within(
+    model: &dyn Evaluate,
+    order: &Order,
+    candidates: &[Vec<Candidate>],
+    k: usize,
+    stock: &[u32],
+    stop: Stop,
 ) -> (Vec<Found>, Effort) {
     let mut effort = Effort {
         floor: f64::INFINITY,
@@ -221,7 +255,7 @@ pub fn best_variants(
         .copied()
         .filter(|s| !order.emitter.contains(s))
         .collect();
-    let orders = visiting_order(model, order, candidates, &plain, deadline, &mut effort);
+    let orders = visiting_order(model, order, candidates, &plain, stop, &mut effort);
     // Grow the bound until K variants lie below it: each pass finds every variant below its bound, so the
     // first pass that finds K of them has found the K best.
     // Start tight: on a dense stock a loose first bound would admit astronomically many near-misses before
@@ -243,7 +277,7 @@ pub fn best_variants(
             cap,
             &plain,
             &orders,
-            deadline,
+            stop,
             &mut effort,
         );
         let mut found: Vec<Found> = heap.into_sorted_vec().into_iter().map(|e| e.0).collect();
@@ -289,7 +323,7 @@ fn pass(
     cap: f64,
     plain: &[usize],
     orders: &[Vec<usize>],
-    deadline: Option<Instant>,
+    stop: Stop,
     effort: &mut Effort,
 ) -> BinaryHeap<Entry> {
     let n = candidates.len();
@@ -303,7 +337,7 @@ fn pass(
         heap: BinaryHeap::new(),
         values: candidates.iter().map(|c| c[0].ohms).collect(),
         picks: vec![0usize; n],
-        deadline,
+        stop,
         ticks: 0,
         effort,
     };
@@ -324,7 +358,7 @@ fn visiting_order(
     order: &Order,
     candidates: &[Vec<Candidate>],
     plain: &[usize],
-    deadline: Option<Instant>,
+    stop: Stop,
     effort: &mut Effort,
 ) -> Vec<Vec<usize>> {
     let nearest = |slot: usize| {
@@ -357,7 +391,8 @@ fn visiting_order(
                     // Each probe is a few dozen solves: the clock is read every 64th.
                     turns = turns.wrapping_add(1);
                     if effort.cut_short
-                        || (turns % 64 == 0 && deadline.is_some_and(|d| Instant::now() >= d))
+                        || stop.evaluations.is_some_and(|n| effort.evaluations >= n)
+                        || (turns % 64 == 1 && stop.deadline.is_some_and(|d| Instant::now() >= d))
                     {
                         effort.cut_short = true;
                         return None;
@@ -399,7 +434,7 @@ struct Pass<'a> {
     heap: BinaryHeap<Entry>,
     values: Vec<Ohms>,
     picks: Vec<usize>,
-    deadline: Option<Instant>,
+    stop: Stop,
     /// Calls of [`Pass::expired`] since the clock was last read.
     ticks: u32,
     effort: &'a mut Effort,
@@ -425,12 +460,15 @@ impl Pass<'_> {
     /// Whether the deadline has passed; once it has, every loop unwinds.
     fn expired(&mut self) -> bool {
         if !self.effort.cut_short {
-            if let Some(d) = self.deadline {
-                // A call is one outer assignment or one scan, microseconds of work: read the clock every
-                // 16th, so the check is cheap and still at most a few milliseconds late.
+            if let Some(n) = self.stop.evaluations {
+                self.effort.cut_short = self.effort.evaluations >= n;
+            }
+            if let Some(d) = self.stop.deadline {
+                // A call is one outer assignment or one scan step, microseconds of work: read the clock
+                // every 16th, so the check is cheap and still at most a few milliseconds late.
                 self.ticks = self.ticks.wrapping_add(1);
-                if self.ticks % 16 == 1 {
-                    self.effort.cut_short = Instant::now() >= d;
+                if self.ticks % 16 == 1 && Instant::now() >= d {
+                    self.effort.cut_short = true;
                 }
             }
         }

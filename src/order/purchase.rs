@@ -73,7 +73,7 @@ pub enum OrderError {
     #[error("{0}")]
     Infeasible(String),
     /// The time limit passed before any purchase was found; the text says where.
-    #[error("{0}: the time limit passed before any purchase was found; allow more --time-limit (seconds), or narrow the search with fewer --parts or --variants")]
+    #[error("{0}: the time limit passed before any purchase was found; raise --time-limit (seconds; the default is 60), or narrow the search with fewer --parts or --variants")]
     TimedOut(String),
 }
 

@@ -328,14 +328,14 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
             "  the time limit ({limit}) ran out before the search finished: this is the best verified design found"
         );
         let _ = match r.solver.bound {
-            Some(b) => writeln!(
+            Some(b) if b > 0.0 => writeln!(
                 out,
                 "  proven: no design has a largest stage error below {} %; allow more --time-limit to close the gap",
                 trim_number(b * 100.0, 3)
             ),
-            None => writeln!(
+            _ => writeln!(
                 out,
-                "  nothing better is ruled out; allow more --time-limit to search further"
+                "  nothing better is ruled out yet; allow more --time-limit to search further"
             ),
         };
     }
