@@ -152,7 +152,7 @@ fn no_design_in_time_exits_5_not_3() {
         "1e-9",
     ]);
     assert_eq!(out.status.code(), Some(5), "{}", stderr(&out));
-    assert!(stderr(&out).contains("before any purchase was found"), "{}", stderr(&out));
+    assert!(stderr(&out).contains("time limit passed while reading"), "{}", stderr(&out));
     // And a truly infeasible stage still exits 3 (a stock with nothing near the ideal values).
     let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("limits");
     let far = dir.join("far.csv");

@@ -172,8 +172,12 @@ pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     // One deadline for the whole command, reading the files included.
     let started = std::time::Instant::now();
-    let (design_file, _) = stages(&args.file, None)?;
-    let stock = load_stock(&args.stock, &args.defaults)?;
+    let (file, stock_file, defaults) = (args.file.clone(), args.stock.clone(), args.defaults.clone());
+    let (design_file, stock) = super::output::read_within(
+        started + args.time_limit,
+        &format!("{} and {}", args.file.display(), args.stock.display()),
+        move || Ok((stages(&file, None)?.0, load_stock(&stock_file, &defaults)?)),
+    )?;
     let request = Request {
         max_parts: args.parts as usize,
         copies: args.copies,

@@ -124,8 +124,12 @@ fn parse_bound(text: &str) -> Result<f64, Failure> {
 pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     // One deadline for the whole command, reading the files included.
     let started = Instant::now();
-    let (design, _) = stages(&args.file, None)?;
-    let stock = load_stock(&args.stock, &args.defaults)?;
+    let (file, stock_file, defaults) = (args.file.clone(), args.stock.clone(), args.defaults.clone());
+    let (design, stock) = super::output::read_within(
+        started + args.time_limit,
+        &format!("{} and {}", args.file.display(), args.stock.display()),
+        move || Ok((stages(&file, None)?.0, load_stock(&stock_file, &defaults)?)),
+    )?;
     let catalogue = match &args.catalog {
         Some(path) => Catalogue::load(path).map_err(|e| Failure::Input(e.to_string()))?,
         None => {

@@ -159,3 +159,32 @@ impl Drop for Progress {
         }
     }
 }
+
+/// Runs `read` (reading a command's input files) on a thread of its own and waits for it until `deadline`.
+/// Reading a huge stock cannot be cut short from inside, so past the deadline the command stops waiting and
+/// fails with a time-out (exit 5); the process then ends, and the reading with it. `what` names the files
+/// in the message.
+pub fn read_within<T: Send + 'static>(
+    deadline: std::time::Instant,
+    what: &str,
+    read: impl FnOnce() -> Result<T, Failure> + Send + 'static,
+) -> Result<T, Failure> {
+    let late = || {
+        Failure::TimedOut(format!(
+            "{what}: the time limit passed while reading them, before any search began; raise --time-limit (seconds; the default is 60)"
+        ))
+    };
+    if std::time::Instant::now() >= deadline {
+        return Err(late());
+    }
+    let (send, receive) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        // The command may have stopped waiting already; nobody is left to tell.
+        let _ = send.send(read());
+    });
+    let wait = deadline.saturating_duration_since(std::time::Instant::now());
+    match receive.recv_timeout(wait) {
+        Ok(result) => result,
+        Err(_) => Err(late()),
+    }
+}
