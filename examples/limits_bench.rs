@@ -338,12 +338,43 @@ fn overshoot_section() {
     let v100k = write("100k.csv", stock_csv(&spread_values(100_000), 5));
     let v512k = write("512k.csv", stock_csv(&spread_values(512_000), 5));
     let cases: Vec<(&str, Vec<&str>, &std::path::Path)> = vec![
-        ("design split emitter, E192 1R-10G, triples", vec!["design", "examples/split-emitter.toml", "--parts", "3"], &e192),
-        ("design two-stage, E192 1R-10G, triples", vec!["design", "examples/two-stage.toml", "--parts", "3"], &e192),
-        ("design line driver, 8 000 values, triples", vec!["design", "examples/line-driver.toml", "--parts", "3"], &v8k),
-        ("design line driver, 100 000 values, triples", vec!["design", "examples/line-driver.toml", "--parts", "3"], &v100k),
-        ("design line driver, 512 000 values, pairs", vec!["design", "examples/line-driver.toml", "--parts", "2"], &v512k),
-        ("order two-stage x10, E192 1R-10G, pairs", vec!["order", "examples/two-stage.toml", "--parts", "2", "--copies", "10"], &e192),
+        (
+            "design split emitter, E192 1R-10G, triples",
+            vec!["design", "examples/split-emitter.toml", "--parts", "3"],
+            &e192,
+        ),
+        (
+            "design two-stage, E192 1R-10G, triples",
+            vec!["design", "examples/two-stage.toml", "--parts", "3"],
+            &e192,
+        ),
+        (
+            "design line driver, 8 000 values, triples",
+            vec!["design", "examples/line-driver.toml", "--parts", "3"],
+            &v8k,
+        ),
+        (
+            "design line driver, 100 000 values, triples",
+            vec!["design", "examples/line-driver.toml", "--parts", "3"],
+            &v100k,
+        ),
+        (
+            "design line driver, 512 000 values, pairs",
+            vec!["design", "examples/line-driver.toml", "--parts", "2"],
+            &v512k,
+        ),
+        (
+            "order two-stage x10, E192 1R-10G, pairs",
+            vec![
+                "order",
+                "examples/two-stage.toml",
+                "--parts",
+                "2",
+                "--copies",
+                "10",
+            ],
+            &e192,
+        ),
     ];
     println!(
         "    {:<46}  {:>6}  {:>8}  {:>7}  {:>7}  {:<4}  result",
@@ -371,7 +402,11 @@ fn overshoot_section() {
     }
     println!(
         "    largest ratio {worst:.2}×; {}",
-        if all_ok { "every run within its target" } else { "some runs past their target" }
+        if all_ok {
+            "every run within its target"
+        } else {
+            "some runs past their target"
+        }
     );
 }
 

@@ -102,12 +102,18 @@ fn a_search_cut_short_returns_a_verified_design_with_its_proven_bound() {
     // At this budget the first passes have finished, which proves something.
     assert!(bound > 0.0, "{solver}");
     let best = optimum();
-    assert!(bound <= best + 1e-12, "bound {bound} above the optimum {best}");
+    assert!(
+        bound <= best + 1e-12,
+        "bound {bound} above the optimum {best}"
+    );
     assert!(best <= error + 1e-12, "optimum {best} worse than {error}");
 
     // The text says "best found" and what was proven, and never "optimal".
     let t = stdout(&design(&["--search-budget", "100000"]));
-    assert!(t.contains("best found") && t.contains("proven: no design"), "{t}");
+    assert!(
+        t.contains("best found") && t.contains("proven: no design"),
+        "{t}"
+    );
     assert!(!t.contains("optimal"), "{t}");
 }
 
@@ -126,7 +132,10 @@ fn a_search_cut_before_it_holds_a_design_falls_back_on_single_parts() {
     assert!((checked_error(stage) - error).abs() <= 1e-9 * error);
     assert!(optimum() <= error);
     let t = stdout(&design(&["--search-budget", "1000"]));
-    assert!(t.contains("single parts") && t.contains("best found"), "{t}");
+    assert!(
+        t.contains("single parts") && t.contains("best found"),
+        "{t}"
+    );
     assert!(!t.contains("optimal"), "{t}");
 }
 
@@ -138,7 +147,10 @@ fn no_design_in_time_exits_5_not_3() {
     assert!(out.stdout.is_empty());
     let err = stderr(&out);
     assert_eq!(err.lines().count(), 1, "{err}");
-    assert!(err.starts_with("error: ") && err.contains("time limit passed"), "{err}");
+    assert!(
+        err.starts_with("error: ") && err.contains("time limit passed"),
+        "{err}"
+    );
     // A limit that has passed before the files are read: design and order alike.
     let out = design(&["--time-limit", "1e-9"]);
     assert_eq!(out.status.code(), Some(5), "{}", stderr(&out));
@@ -152,7 +164,11 @@ fn no_design_in_time_exits_5_not_3() {
         "1e-9",
     ]);
     assert_eq!(out.status.code(), Some(5), "{}", stderr(&out));
-    assert!(stderr(&out).contains("time limit passed while reading"), "{}", stderr(&out));
+    assert!(
+        stderr(&out).contains("time limit passed while reading"),
+        "{}",
+        stderr(&out)
+    );
     // And a truly infeasible stage still exits 3 (a stock with nothing near the ideal values).
     let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("limits");
     let far = dir.join("far.csv");
@@ -172,7 +188,10 @@ fn the_budgets_used_really_cut_the_search() {
     // search ever finished within them, the tests above would be testing nothing and this one says so.
     let v = json(&design(&["--json"]));
     let needed = v["solver"]["evaluations"].as_u64().unwrap();
-    assert!(needed > 100_000, "the optimum takes only {needed} evaluations");
+    assert!(
+        needed > 100_000,
+        "the optimum takes only {needed} evaluations"
+    );
     // Unlimited runs are marked optimal and state their own error as the bound.
     let error = v["stages"][0]["error"].as_f64().unwrap();
     assert_eq!(v["solver"]["bound"].as_f64(), Some(error));

@@ -251,7 +251,7 @@ struct Step {
 /// Collects, for every member of `net` left to right, its value and its steps up to `net`, and returns the
 /// value of `net`. Each level sums its children once, with prefix and suffix sums, so that every member's
 /// siblings cost O(1): the whole pass is linear in the members (times the nesting depth).
-fn paths(net: &Network, out: &mut Vec<(Ohms, Vec<Step>)>) -> f64 {
+fn paths(net: &Network, out: &mut Vec<Path>) -> f64 {
     match net {
         Network::Single(m) => {
             out.push((m.ohms, Vec::new()));
@@ -289,12 +289,15 @@ fn paths(net: &Network, out: &mut Vec<(Ohms, Vec<Step>)>) -> f64 {
     }
 }
 
+/// A member's own value and its steps up to its slot's network.
+type Path = (Ohms, Vec<Step>);
+
 /// A built stage prepared for fault simulation, once: each slot's nominal value and, for every member, its
 /// value and its way up to the slot. A fault's slot values then cost the network's depth, not its width, so
 /// simulating the whole catalogue (six faults a member) is linear in the members.
 #[derive(Clone, Debug)]
 pub struct Prepared {
-    slots: Vec<(Slot, Ohms, Vec<(Ohms, Vec<Step>)>)>,
+    slots: Vec<(Slot, Ohms, Vec<Path>)>,
     dual: bool,
 }
 

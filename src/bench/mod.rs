@@ -482,7 +482,9 @@ fn fold_alike(found: Vec<Explanation>) -> Vec<Explanation> {
             Some(k) => merged[k].alike.push(e.fault),
             None => {
                 if p.iter().all(|v| v.is_finite()) {
-                    grid.entry(cell(&e.predicted)).or_default().push(merged.len());
+                    grid.entry(cell(&e.predicted))
+                        .or_default()
+                        .push(merged.len());
                 }
                 merged.push(e);
             }

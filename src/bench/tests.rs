@@ -430,7 +430,9 @@ fn prepared_fault_values_match_a_full_recomputation() {
         if f.place().is_none() {
             continue;
         }
-        let got = prepared.values(Some(&f)).expect("resistance faults have values");
+        let got = prepared
+            .values(Some(&f))
+            .expect("resistance faults have values");
         let want = direct(&st, &nets, &f);
         for slot in st.slots() {
             match (got.get(slot), want.get(slot)) {
@@ -456,7 +458,9 @@ fn folding_alike_predictions_by_grid_equals_the_plain_scan() {
     // edge of a cell: the grid must pick the same first match as comparing with every kept one.
     let mut seed = 7u64;
     let mut next = || {
-        seed = seed.wrapping_mul(6364136223846793005).wrapping_add(1442695040888963407);
+        seed = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
         (seed >> 33) % 12
     };
     let found: Vec<Explanation> = (0..400)

@@ -172,7 +172,8 @@ pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec
 pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     // One deadline for the whole command, reading the files included.
     let started = std::time::Instant::now();
-    let (file, stock_file, defaults) = (args.file.clone(), args.stock.clone(), args.defaults.clone());
+    let (file, stock_file, defaults) =
+        (args.file.clone(), args.stock.clone(), args.defaults.clone());
     let (design_file, stock) = super::output::read_within(
         started + args.time_limit,
         &format!("{} and {}", args.file.display(), args.stock.display()),

@@ -124,7 +124,8 @@ fn parse_bound(text: &str) -> Result<f64, Failure> {
 pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     // One deadline for the whole command, reading the files included.
     let started = Instant::now();
-    let (file, stock_file, defaults) = (args.file.clone(), args.stock.clone(), args.defaults.clone());
+    let (file, stock_file, defaults) =
+        (args.file.clone(), args.stock.clone(), args.defaults.clone());
     let (design, stock) = super::output::read_within(
         started + args.time_limit,
         &format!("{} and {}", args.file.display(), args.stock.display()),
@@ -192,7 +193,12 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
             }
             .to_string(),
             evaluations: 0,
-            result: if outcome.proven { "optimal" } else { "best found" }.to_string(),
+            result: if outcome.proven {
+                "optimal"
+            } else {
+                "best found"
+            }
+            .to_string(),
             bound: outcome.bound,
             time_limit: time_limit.map(|l| l.as_secs_f64()),
         },

@@ -238,7 +238,7 @@ impl<'a> Index<'a> {
         };
         let t = self.ticks.get().wrapping_add(1);
         self.ticks.set(t);
-        if t % 256 == 0 && Instant::now() >= d {
+        if t.is_multiple_of(256) && Instant::now() >= d {
             self.expired.set(true);
         }
         self.expired.get()
@@ -276,9 +276,7 @@ impl<'a> Index<'a> {
         high: Ohms,
         limit: usize,
     ) -> Result<Vec<Candidate>, Cut> {
-        let timed_out = || {
-            self.deadline.is_some_and(|d| Instant::now() >= d) || self.expired.get()
-        };
+        let timed_out = || self.deadline.is_some_and(|d| Instant::now() >= d) || self.expired.get();
         if timed_out() {
             self.expired.set(true);
             return Err(Cut::TimedOut);

@@ -21,7 +21,8 @@ pub struct NetworkError {
 }
 
 /// What a network is, for a refusal of its notation.
-const NOTATION: &str = "expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k";
+const NOTATION: &str =
+    "expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k";
 
 /// The most resistors one network may have. biasfit's own designs use at most
 /// [`crate::network::candidates::MAX_PARTS`] (3) a slot, and a network built by hand on a bench (a string of

@@ -399,19 +399,20 @@ pub fn design(
     // Under a limit, a design of single parts first, from a tenth of the time: it costs little (a window
     // of singles is a binary search) and is a verified design to fall back on should the full search run
     // out of time before it holds one.
-    let fallback = (request.max_parts > 1 && (attempt.deadline.is_some() || request.search_budget.is_some()))
-        .then(|| {
-            let mut quick = attempt.clone();
-            quick.max_parts = 1;
-            quick.alternatives = 0;
-            quick.deadline = attempt.deadline.map(|d| {
-                let now = Instant::now();
-                now + d.saturating_duration_since(now) / 10
-            });
-            progress("a first design of single parts");
-            design_once(design, stock, &quick, &mut |_| {}).ok()
-        })
-        .flatten();
+    let fallback = (request.max_parts > 1
+        && (attempt.deadline.is_some() || request.search_budget.is_some()))
+    .then(|| {
+        let mut quick = attempt.clone();
+        quick.max_parts = 1;
+        quick.alternatives = 0;
+        quick.deadline = attempt.deadline.map(|d| {
+            let now = Instant::now();
+            now + d.saturating_duration_since(now) / 10
+        });
+        progress("a first design of single parts");
+        design_once(design, stock, &quick, &mut |_| {}).ok()
+    })
+    .flatten();
     let full = design_full(design, stock, &mut attempt, progress);
     let fall_back = |mut f: Outcome, bound: Option<f64>| {
         f.solver.status = "time limit".into();
