@@ -918,6 +918,110 @@ mod tests {
         );
     }
 
+    /// Every feasible variant's error over four slots of singles, by brute force, sorted.
+    fn exhaustive(lists: &[Vec<Candidate>], stock: &[u32]) -> Vec<f64> {
+        let mut all = Vec::new();
+        for a in 0..lists[0].len() {
+            for b in 0..lists[1].len() {
+                for c in 0..lists[2].len() {
+                    for d in 0..lists[3].len() {
+                        let picks = [(0, a), (1, b), (2, c), (3, d)];
+                        let v = picks.map(|(s, i)| lists[s][i].ohms);
+                        if !Divider.electrical_ok(&v) {
+                            continue;
+                        }
+                        let mut count = std::collections::BTreeMap::new();
+                        for (s, i) in picks {
+                            *count.entry(lists[s][i].uses[0].0).or_insert(0u32) += 1;
+                        }
+                        if count.iter().any(|(&p, &n)| n > stock[p]) {
+                            continue;
+                        }
+                        let e = largest(&Divider.deviations(&v), &ALL);
+                        if e < GIVE_UP {
+                            all.push(e);
+                        }
+                    }
+                }
+            }
+        }
+        all.sort_by(f64::total_cmp);
+        all
+    }
+
+    #[test]
+    fn a_search_cut_short_keeps_real_variants_and_a_true_floor() {
+        // The same kind of random dividers as the exhaustive comparison, each cut after a growing number of
+        // evaluations: whatever is returned must be real variants (errors the brute force also finds), the
+        // floor must never exceed the true best, and an uncut search must equal the full one.
+        let mut rng = Rng(29);
+        let ideal = [30e3, 7.5e3, 600.0, 2000.0];
+        let order = Order {
+            outer: vec![1, 2],
+            scan: 0,
+            collector: Some(3),
+            emitter: vec![2],
+            emitter_ohms: VE_T / (IC_T * (BETA + 1.0) / BETA),
+            centre: ideal.iter().map(|&x| Ohms(x)).collect(),
+            collector_target: Some(Ohms(RL)),
+            gain: None,
+        };
+        let (mut cut, mut kept_some) = (0, 0);
+        for _ in 0..12 {
+            let mut stock = Vec::new();
+            let mut lists: Vec<Vec<Candidate>> = vec![Vec::new(); 4];
+            for p in 0..40 {
+                let v = 10f64.powf(2.0 + 3.0 * rng.unit());
+                stock.push(1 + (rng.next() % 2) as u32);
+                for (s, &id) in ideal.iter().enumerate() {
+                    if v > id / 3.0 && v < id * 3.0 {
+                        lists[s].push(single(v, p));
+                    }
+                }
+            }
+            if lists.iter().any(|l| l.is_empty()) {
+                continue;
+            }
+            for l in &mut lists {
+                l.sort_by(|a, b| a.ohms.0.total_cmp(&b.ohms.0));
+            }
+            let all = exhaustive(&lists, &stock);
+            let k = 5;
+            let (full, _) = best_variants(&Divider, &order, &lists, k, &stock, None);
+            for budget in [0u64, 30, 100, 300, 1000, 3000, 100_000] {
+                let stop = Stop {
+                    deadline: None,
+                    evaluations: Some(budget),
+                };
+                let (found, effort) =
+                    best_variants_within(&Divider, &order, &lists, k, &stock, stop);
+                for f in &found {
+                    assert!(
+                        all.iter().any(|e| (e - f.error).abs() < 1e-12),
+                        "budget {budget}: {} is no variant",
+                        f.error
+                    );
+                }
+                assert!(found.windows(2).all(|w| w[0].error <= w[1].error));
+                let floor = effort.proven_floor(found.first().map(|f| f.error));
+                if let Some(best) = all.first() {
+                    assert!(
+                        floor <= best + 1e-12,
+                        "budget {budget}: floor {floor} > {best}"
+                    );
+                }
+                if effort.cut_short {
+                    cut += 1;
+                    kept_some += usize::from(!found.is_empty());
+                } else {
+                    assert_eq!(found, full, "budget {budget}");
+                }
+            }
+        }
+        // The budgets did cut, and some cut searches still held variants to return.
+        assert!(cut >= 10 && kept_some >= 3, "cut {cut}, kept {kept_some}");
+    }
+
     #[test]
     fn valley_is_exact_with_flat_ends() {
         // A deviation that is flat at both ends (cutoff and saturation) and crosses zero at index 6.
