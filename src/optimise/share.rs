@@ -361,6 +361,20 @@ mod tests {
                     );
                     assert!(fits(&variants, &a.chosen, &stock));
                     assert!(a.proven);
+                    // Proven, the floor is the answer itself.
+                    assert_eq!(a.floor, a.worst, "case {case}");
+                    // Cut at once (a deadline already past): still an allocation that fits, never better
+                    // than the optimum, and a floor no higher than the optimum's worst error.
+                    match allocate(&variants, stages, copies, &stock, Some(Instant::now())) {
+                        Ok(cut) => {
+                            assert!(fits(&variants, &cut.chosen, &stock), "case {case}");
+                            assert!(cut.worst >= a.worst - 1e-6, "case {case}");
+                            assert!(cut.floor <= a.worst + 1e-12, "case {case}: {cut:?}");
+                            assert!(cut.floor <= cut.worst, "case {case}: {cut:?}");
+                        }
+                        Err(ShareError::TimedOut) => {}
+                        Err(e) => panic!("case {case}: {e}"),
+                    }
                 }
                 (w, g) => panic!("case {case}: exhaustive {w:?} but allocate {g:?}"),
             }
