@@ -1,6 +1,8 @@
 //! Measured limits of `design` on this machine: the largest stock and the largest number of stages it
-//! handles within the 10 s budget, and how long every E192 value over ten decades takes. Run with
-//! `cargo run --release --example limits_bench [stock] [stages] [e192]` (all three sections by default).
+//! handles within the 10 s budget, how long every E192 value over ten decades takes, and how far past its
+//! time limit a command runs on the largest stocks (the overshoot, wall time over limit, against the target
+//! of 1.2 × the limit + 0.2 s). Run with
+//! `cargo run --release --example limits_bench [stock] [stages] [e192] [overshoot]` (all four by default).
 //!
 //! Every run is the whole job after the command line: the stock CSV text parsed (as `biasfit design` reads
 //! it), then the design. "Handled" means the search finished and proved its answer within 10 s; each run is
@@ -264,6 +266,150 @@ fn e192_section() {
     }
 }
 
+/// The biasfit binary beside this example (target/release/biasfit): the overshoot is measured on whole
+/// commands, process start, file reading and all.
+fn binary() -> std::path::PathBuf {
+    let exe = std::env::current_exe().expect("the benchmark's own path");
+    let bin = exe
+        .parent()
+        .and_then(|examples| examples.parent())
+        .map(|release| release.join("biasfit"))
+        .expect("target/release");
+    assert!(
+        bin.exists(),
+        "{} is missing: run `cargo build --release` first",
+        bin.display()
+    );
+    bin
+}
+
+/// One command under a time limit, through the binary: its wall time and what came of it.
+fn limited(args: &[&str], stock: &std::path::Path, limit: f64) -> (f64, String) {
+    let started = Instant::now();
+    let out = std::process::Command::new(binary())
+        .args(args)
+        .arg("--stock")
+        .arg(stock)
+        .args(["--time-limit", &limit.to_string(), "--json"])
+        .output()
+        .expect("biasfit runs");
+    let wall = started.elapsed().as_secs_f64();
+    let what = match out.status.code() {
+        Some(5) => "none in time (exit 5)".to_string(),
+        Some(0) | Some(1) => {
+            let v: serde_json::Value = serde_json::from_slice(&out.stdout).expect("JSON");
+            let worst = v["stages"]
+                .as_array()
+                .map(|a| {
+                    a.iter()
+                        .filter_map(|s| s["error"].as_f64())
+                        .fold(0.0, f64::max)
+                })
+                .unwrap_or(f64::NAN);
+            format!(
+                "{} {:.4}%",
+                v["solver"]["result"].as_str().unwrap_or("?"),
+                100.0 * worst
+            )
+        }
+        other => format!(
+            "exit {other:?}: {}",
+            String::from_utf8_lossy(&out.stderr).trim()
+        ),
+    };
+    (wall, what)
+}
+
+/// Wall time over the limit on the largest stocks of the sections above, at limits of 0.2 s, 1 s and 10 s.
+fn overshoot_section() {
+    println!("overshoot: wall time / limit of whole commands (the binary, files read and all), target 1.2 × limit + 0.2 s");
+    let dir = std::env::temp_dir().join("biasfit-limits-bench");
+    std::fs::create_dir_all(&dir).expect("a scratch folder");
+    let write = |name: &str, csv: String| {
+        let path = dir.join(name);
+        std::fs::write(&path, csv).expect("the stock written");
+        path
+    };
+    let e192 = write(
+        "e192.csv",
+        stock_csv(&Series::E192.values_between(Ohms(1.0), Ohms(1e10)), 5),
+    );
+    let v8k = write("8k.csv", stock_csv(&spread_values(8_000), 5));
+    let v100k = write("100k.csv", stock_csv(&spread_values(100_000), 5));
+    let v512k = write("512k.csv", stock_csv(&spread_values(512_000), 5));
+    let cases: Vec<(&str, Vec<&str>, &std::path::Path)> = vec![
+        (
+            "design split emitter, E192 1R-10G, triples",
+            vec!["design", "examples/split-emitter.toml", "--parts", "3"],
+            &e192,
+        ),
+        (
+            "design two-stage, E192 1R-10G, triples",
+            vec!["design", "examples/two-stage.toml", "--parts", "3"],
+            &e192,
+        ),
+        (
+            "design line driver, 8 000 values, triples",
+            vec!["design", "examples/line-driver.toml", "--parts", "3"],
+            &v8k,
+        ),
+        (
+            "design line driver, 100 000 values, triples",
+            vec!["design", "examples/line-driver.toml", "--parts", "3"],
+            &v100k,
+        ),
+        (
+            "design line driver, 512 000 values, pairs",
+            vec!["design", "examples/line-driver.toml", "--parts", "2"],
+            &v512k,
+        ),
+        (
+            "order two-stage x10, E192 1R-10G, pairs",
+            vec![
+                "order",
+                "examples/two-stage.toml",
+                "--parts",
+                "2",
+                "--copies",
+                "10",
+            ],
+            &e192,
+        ),
+    ];
+    println!(
+        "    {:<46}  {:>6}  {:>8}  {:>7}  {:>7}  {:<4}  result",
+        "case", "limit", "wall", "ratio", "target", "ok"
+    );
+    let mut worst: f64 = 0.0;
+    let mut all_ok = true;
+    for (name, args, stock) in &cases {
+        for limit in [0.2, 1.0, 10.0] {
+            let (wall, what) = limited(args, stock, limit);
+            let target = 1.2 * limit + 0.2;
+            let ok = wall <= target;
+            all_ok &= ok;
+            worst = worst.max(wall / limit);
+            println!(
+                "    {:<46}  {:>5} s  {:>6.2} s  {:>6.2}×  {:>6.2}×  {:<4}  {what}",
+                name,
+                limit,
+                wall,
+                wall / limit,
+                target / limit,
+                if ok { "yes" } else { "NO" }
+            );
+        }
+    }
+    println!(
+        "    largest ratio {worst:.2}×; {}",
+        if all_ok {
+            "every run within its target"
+        } else {
+            "some runs past their target"
+        }
+    );
+}
+
 fn main() {
     let wanted: Vec<String> = std::env::args().skip(1).collect();
     let all = wanted.is_empty();
@@ -278,5 +424,9 @@ fn main() {
     }
     if want("e192") {
         e192_section();
+        println!();
+    }
+    if want("overshoot") {
+        overshoot_section();
     }
 }

@@ -24,6 +24,7 @@ fn request(goal: Goal, copies: u32) -> OrderRequest {
         variants: 80,
         window: 3.0,
         time_limit: None,
+        deadline: None,
     }
 }
 

@@ -20,7 +20,7 @@
 //!
 //! Relies on [`crate::stage`] for the solve and [`crate::network`] for the members.
 
-use crate::network::Member;
+use crate::network::{Member, Network};
 use crate::notation::{code, Series};
 use crate::stage::{Slot, SlotNetworks, SlotValues, Stage, Topology};
 use crate::units::{Ohms, Volts};
@@ -240,66 +240,161 @@ pub struct Nodes {
     pub vc: Volts,
 }
 
-/// The slot values with the fault applied, or None when the fault is not one of resistances.
-fn faulty_values(stage: &Stage, nets: &SlotNetworks, f: &Fault) -> Option<SlotValues> {
-    let mut values = SlotValues::new();
-    let put = |values: &mut SlotValues, slot: Slot, ohms: Ohms| {
-        // An infinite resistance is an open slot, which the solver models as unset.
-        if ohms.0.is_finite() {
+/// One level of a member's way up to its slot's whole network: how the member's branch combines there with
+/// its siblings, whose sum is kept (ohms in series, siemens in parallel).
+#[derive(Clone, Copy, Debug)]
+struct Step {
+    series: bool,
+    others: f64,
+}
+
+/// Collects, for every member of `net` left to right, its value and its steps up to `net`, and returns the
+/// value of `net`. Each level sums its children once, with prefix and suffix sums, so that every member's
+/// siblings cost O(1): the whole pass is linear in the members (times the nesting depth).
+fn paths(net: &Network, out: &mut Vec<Path>) -> f64 {
+    match net {
+        Network::Single(m) => {
+            out.push((m.ohms, Vec::new()));
+            m.ohms.0
+        }
+        Network::Series(parts) | Network::Parallel(parts) => {
+            let series = matches!(net, Network::Series(_));
+            let mut spans = Vec::with_capacity(parts.len());
+            let mut terms = Vec::with_capacity(parts.len());
+            for p in parts {
+                let from = out.len();
+                let v = paths(p, out);
+                spans.push(from..out.len());
+                terms.push(if series { v } else { 1.0 / v });
+            }
+            let mut suffix = vec![0.0; terms.len() + 1];
+            for i in (0..terms.len()).rev() {
+                suffix[i] = suffix[i + 1] + terms[i];
+            }
+            let mut prefix = 0.0;
+            for (i, span) in spans.into_iter().enumerate() {
+                let others = prefix + suffix[i + 1];
+                for leaf in &mut out[span] {
+                    leaf.1.push(Step { series, others });
+                }
+                prefix += terms[i];
+            }
+            let total = suffix[0];
+            if series {
+                total
+            } else {
+                1.0 / total
+            }
+        }
+    }
+}
+
+/// A member's own value and its steps up to its slot's network.
+type Path = (Ohms, Vec<Step>);
+
+/// A built stage prepared for fault simulation, once: each slot's nominal value and, for every member, its
+/// value and its way up to the slot. A fault's slot values then cost the network's depth, not its width, so
+/// simulating the whole catalogue (six faults a member) is linear in the members.
+#[derive(Clone, Debug)]
+pub struct Prepared {
+    slots: Vec<(Slot, Ohms, Vec<Path>)>,
+    dual: bool,
+}
+
+impl Prepared {
+    /// Prepares the stage's built networks.
+    pub fn new(stage: &Stage, nets: &SlotNetworks) -> Prepared {
+        let slots = stage
+            .slots()
+            .into_iter()
+            .filter_map(|slot| {
+                let net = nets.get(slot)?;
+                let mut members = Vec::new();
+                paths(net, &mut members);
+                // The nominal value by the network's own arithmetic, as every other command computes it.
+                Some((slot, net.ohms(), members))
+            })
+            .collect();
+        Prepared {
+            slots,
+            dual: stage.topology == Topology::DualSupply,
+        }
+    }
+
+    fn nominal(&self, slot: Slot) -> Option<Ohms> {
+        self.slots.iter().find(|s| s.0 == slot).map(|s| s.1)
+    }
+
+    /// The slot's value with one member at `ohms` instead of its own (infinite: open; 0: shorted).
+    fn edited(&self, place: Place, ohms: f64) -> Option<Ohms> {
+        let (_, _, members) = self.slots.iter().find(|s| s.0 == place.slot)?;
+        let (_, steps) = members.get(place.member)?;
+        let mut v = ohms;
+        for st in steps {
+            v = if st.series {
+                st.others + v
+            } else {
+                1.0 / (st.others + 1.0 / v)
+            };
+        }
+        Some(Ohms(v))
+    }
+
+    /// The slot values with the fault applied (None: as built), or None when the fault is not one of
+    /// resistances (a single-supply stage without its ground).
+    pub fn values(&self, fault: Option<&Fault>) -> Option<SlotValues> {
+        let mut values = SlotValues::new();
+        for &(slot, ohms, _) in &self.slots {
             values.set(slot, ohms);
         }
-    };
-    for slot in stage.slots() {
-        let Some(net) = nets.get(slot) else { continue };
-        let ohms = match f.place() {
-            Some(p) if p.slot == slot => {
-                let target = net.members().into_iter().nth(p.member)?;
-                let replace = |m: &Member| -> Ohms {
-                    if std::ptr::eq(m, target) {
-                        match f {
-                            Fault::Open(_) => Ohms(f64::INFINITY),
-                            Fault::Short(_) => Ohms(0.0),
-                            _ => wrong_value(f, m.ohms).unwrap_or(m.ohms),
-                        }
-                    } else {
-                        m.ohms
-                    }
-                };
-                net.ohms_with(&replace)
-            }
-            _ => net.ohms(),
+        let Some(f) = fault else {
+            return Some(values);
         };
-        put(&mut values, slot, ohms);
-    }
-    match *f {
-        Fault::Swapped(a, b) => {
-            let (ra, rb) = (nets.get(a)?.ohms(), nets.get(b)?.ohms());
-            values.set(a, rb);
-            values.set(b, ra);
-        }
-        Fault::MissingGround if stage.topology == Topology::DualSupply => {
-            // Only the base resistor returns to ground: without it the base is open.
+        if let Some(p) = f.place() {
+            let (_, _, members) = self.slots.iter().find(|s| s.0 == p.slot)?;
+            let own = members.get(p.member)?.0;
+            let fitted = match f {
+                Fault::Open(_) => f64::INFINITY,
+                Fault::Short(_) => 0.0,
+                _ => wrong_value(f, own).unwrap_or(own).0,
+            };
+            let ohms = self.edited(p, fitted)?;
+            // An infinite resistance is an open slot, which the solver models as unset.
             let mut v = SlotValues::new();
-            for (s, r) in values.iter().filter(|(s, _)| *s != Slot::RB) {
-                v.set(s, r);
+            for (s, r) in values.iter() {
+                if s != p.slot {
+                    v.set(s, r);
+                } else if ohms.0.is_finite() {
+                    v.set(s, ohms);
+                }
             }
             return Some(v);
         }
-        Fault::MissingGround => return None,
-        _ => {}
+        match *f {
+            Fault::Swapped(a, b) => {
+                let (ra, rb) = (self.nominal(a)?, self.nominal(b)?);
+                values.set(a, rb);
+                values.set(b, ra);
+            }
+            Fault::MissingGround if self.dual => {
+                // Only the base resistor returns to ground: without it the base is open.
+                let mut v = SlotValues::new();
+                for (s, r) in values.iter().filter(|(s, _)| *s != Slot::RB) {
+                    v.set(s, r);
+                }
+                return Some(v);
+            }
+            Fault::MissingGround => return None,
+            _ => {}
+        }
+        Some(values)
     }
-    Some(values)
 }
 
-/// The node voltages the stage would show with this fault, at `beta` (at the reference temperature; for
-/// [`Fault::Reversed`], the reverse beta) and the ambient temperature.
-pub fn simulate(stage: &Stage, nets: &SlotNetworks, fault: Option<&Fault>, beta: f64) -> Nodes {
-    let values = match fault {
-        None => Some(nets.values()),
-        Some(f) => faulty_values(stage, nets, f),
-    };
+/// The node voltages of the stage with these slot values (None: no ground return, so nothing flows and every
+/// node sits at the supply), at `beta` and the ambient temperature.
+pub fn nodes(stage: &Stage, values: Option<&SlotValues>, beta: f64) -> Nodes {
     let Some(values) = values else {
-        // A single-supply stage with no ground return: nothing flows, so nothing drops.
         let v = stage.supply;
         return Nodes {
             vb: v,
@@ -307,12 +402,20 @@ pub fn simulate(stage: &Stage, nets: &SlotNetworks, fault: Option<&Fault>, beta:
             vc: v,
         };
     };
-    let op = stage.solve(&values, beta, stage.limits.ambient);
+    let op = stage.solve(values, beta, stage.limits.ambient);
     Nodes {
         vb: op.vb,
         ve: op.ve,
         vc: op.vc,
     }
+}
+
+/// The node voltages the stage would show with this fault, at `beta` (at the reference temperature; for
+/// [`Fault::Reversed`], the reverse beta) and the ambient temperature. To simulate many faults of one build,
+/// prepare it once with [`Prepared`] and use [`nodes`].
+pub fn simulate(stage: &Stage, nets: &SlotNetworks, fault: Option<&Fault>, beta: f64) -> Nodes {
+    let values = Prepared::new(stage, nets).values(fault);
+    nodes(stage, values.as_ref(), beta)
 }
 
 /// The beta range a hypothesis is fitted over: the transistor's own range, or the reverse beta.

@@ -332,18 +332,20 @@ fn minimise(lo: f64, hi: f64, f: &dyn Fn(f64) -> f64) -> (f64, f64) {
     }
 }
 
-/// The best match of a hypothesis (None: as designed) over its beta range: (score, beta, prediction).
+/// The best match of a hypothesis (None: as designed) over its beta range: (score, beta, prediction). The
+/// fault's slot values are worked out once; only the solve runs for each beta tried.
 fn best_match(
     stage: &Stage,
-    nets: &SlotNetworks,
+    prepared: &faults::Prepared,
     fault: Option<&Fault>,
     measured: &Measured,
 ) -> (f64, f64, Nodes) {
     let (lo, hi) = faults::beta_range(stage, fault);
+    let values = prepared.values(fault);
     let (beta, _) = minimise(lo, hi, &|b| {
-        -score(measured, &faults::simulate(stage, nets, fault, b))
+        -score(measured, &faults::nodes(stage, values.as_ref(), b))
     });
-    let nodes = faults::simulate(stage, nets, fault, beta);
+    let nodes = faults::nodes(stage, values.as_ref(), beta);
     (score(measured, &nodes), beta, nodes)
 }
 
@@ -354,8 +356,9 @@ const BETA_SEARCH: (f64, f64) = (1.0, 10_000.0);
 /// tolerance limits and each reading moved by the meter's resolution (the shifts in ln β add, worst case).
 fn estimate_beta(stage: &Stage, nets: &SlotNetworks, measured: &Measured) -> BetaEstimate {
     let fit_with = |nets: &SlotNetworks, m: &Measured| {
+        let values = nets.values();
         minimise(BETA_SEARCH.0, BETA_SEARCH.1, &|b| {
-            misfit(m, &faults::simulate(stage, nets, None, b))
+            misfit(m, &faults::nodes(stage, Some(&values), b))
         })
         .0
     };
@@ -421,12 +424,25 @@ fn at_limit(net: &crate::network::Network, sign: f64) -> crate::network::Network
 
 /// Every fault of the catalogue, matched against readings in the NPN frame, best first, with faults that
 /// predict the same voltages (within 1 mV on every node) folded into the first of them.
+///
+/// Linear in the members: the build is prepared once ([`faults::Prepared`]), each fault's values then cost
+/// the network's depth, and the folding looks only at the neighbouring 1 mV cells of a grid instead of at
+/// every explanation kept so far.
 pub fn rank(stage: &Stage, nets: &SlotNetworks, measured: &Measured) -> Vec<Explanation> {
+    rank_prepared(stage, nets, &faults::Prepared::new(stage, nets), measured)
+}
+
+fn rank_prepared(
+    stage: &Stage,
+    nets: &SlotNetworks,
+    prepared: &faults::Prepared,
+    measured: &Measured,
+) -> Vec<Explanation> {
     let mut found: Vec<Explanation> = faults::catalogue(stage, nets)
         .into_iter()
         .filter(|f| !is_null(nets, f))
         .map(|f| {
-            let (score, beta, predicted) = best_match(stage, nets, Some(&f), measured);
+            let (score, beta, predicted) = best_match(stage, prepared, Some(&f), measured);
             Explanation {
                 fault: f,
                 score,
@@ -438,21 +454,60 @@ pub fn rank(stage: &Stage, nets: &SlotNetworks, measured: &Measured) -> Vec<Expl
         .collect();
     // Best first; ties keep the catalogue's order (a stable sort).
     found.sort_by(|a, b| b.score.total_cmp(&a.score));
+    fold_alike(found)
+}
+
+/// Folds each explanation into the first kept one whose prediction lies within [`ALIKE`] on every node, as
+/// a scan of every kept one would, but looking only at the kept ones in the 27 grid cells (of side
+/// [`ALIKE`]) around it: two predictions within [`ALIKE`] on every node lie in neighbouring cells.
+fn fold_alike(found: Vec<Explanation>) -> Vec<Explanation> {
+    use std::collections::HashMap;
+    let cell = |n: &Nodes| node_array(n).map(|v| (v / ALIKE).floor() as i64);
     let mut merged: Vec<Explanation> = Vec::new();
+    let mut grid: HashMap<[i64; 3], Vec<usize>> = HashMap::new();
     for e in found {
-        let same = merged.iter_mut().find(|k| {
-            node_array(&k.predicted)
-                .iter()
-                .zip(node_array(&e.predicted))
-                .all(|(a, b)| (a - b).abs() <= 1e-3)
-        });
+        let p = node_array(&e.predicted);
+        let same = if p.iter().all(|v| v.is_finite()) {
+            let c = cell(&e.predicted);
+            let mut first: Option<usize> = None;
+            for d0 in -1..=1 {
+                for d1 in -1..=1 {
+                    for d2 in -1..=1 {
+                        let key = [c[0] + d0, c[1] + d1, c[2] + d2];
+                        for &k in grid.get(&key).into_iter().flatten() {
+                            let close = node_array(&merged[k].predicted)
+                                .iter()
+                                .zip(p)
+                                .all(|(a, b)| (a - b).abs() <= ALIKE);
+                            if close && first.is_none_or(|f| k < f) {
+                                first = Some(k);
+                            }
+                        }
+                    }
+                }
+            }
+            first
+        } else {
+            // A prediction that is not a number matches nothing, as in the plain comparison.
+            None
+        };
         match same {
-            Some(k) => k.alike.push(e.fault),
-            None => merged.push(e),
+            Some(k) => merged[k].alike.push(e.fault),
+            None => {
+                if p.iter().all(|v| v.is_finite()) {
+                    grid.entry(cell(&e.predicted))
+                        .or_default()
+                        .push(merged.len());
+                }
+                merged.push(e);
+            }
         }
     }
     merged
 }
+
+/// Predictions closer than this on every node (volts) cannot be told apart by a meter.
+const ALIKE: f64 = 1e-3;
 
 /// Compares bench readings with the design of a built stage.
 pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verification {
@@ -477,17 +532,19 @@ pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verifi
         Verdict::Fault
     };
 
-    let (as_built_score, _, _) = best_match(stage, nets, None, &measured);
+    let prepared = faults::Prepared::new(stage, nets);
+    let (as_built_score, _, _) = best_match(stage, &prepared, None, &measured);
     // Beta is worth estimating when the design, with some beta, explains the readings.
     let wide = {
+        let values = nets.values();
         let (beta, _) = minimise(BETA_SEARCH.0, BETA_SEARCH.1, &|x| {
-            -score(&measured, &faults::simulate(stage, nets, None, x))
+            -score(&measured, &faults::nodes(stage, Some(&values), x))
         });
-        score(&measured, &faults::simulate(stage, nets, None, beta))
+        score(&measured, &faults::nodes(stage, Some(&values), beta))
     };
     let beta = (wide >= 0.5).then(|| estimate_beta(stage, nets, &measured));
 
-    let mut merged = rank(stage, nets, &measured);
+    let mut merged = rank_prepared(stage, nets, &prepared, &measured);
     let floor = as_built_score.max(MIN_SCORE);
     merged.retain(|e| e.score > floor);
     merged.truncate(TOP);

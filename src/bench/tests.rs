@@ -5,7 +5,7 @@
 
 use super::*;
 use crate::network::{Member, Network};
-use crate::stage::parse;
+use crate::stage::{parse, SlotValues};
 use crate::units::{Ohms, Tolerance, Watts};
 
 fn part(ohms: f64, location: &str) -> Network {
@@ -372,4 +372,127 @@ fn missing_ground_floats_every_node_to_the_supply() {
     let (st, nets) = divider_build();
     let n = faults::simulate(&st, &nets, Some(&Fault::MissingGround), 160.0);
     assert_eq!((n.vb, n.ve, n.vc), (Volts(15.0), Volts(15.0), Volts(15.0)));
+}
+
+/// The slot values a fault gives, by the plain method: the whole network recomputed with the one member
+/// replaced (what the prepared paths must agree with).
+fn direct(st: &Stage, nets: &SlotNetworks, f: &Fault) -> SlotValues {
+    let p = f.place().expect("a member fault");
+    let mut v = SlotValues::new();
+    for slot in st.slots() {
+        let Some(net) = nets.get(slot) else { continue };
+        let ohms = if slot == p.slot {
+            let members = net.members();
+            let target = members[p.member];
+            net.ohms_with(&|m| {
+                if std::ptr::eq(m, target) {
+                    match f {
+                        Fault::Open(_) => Ohms(f64::INFINITY),
+                        Fault::Short(_) => Ohms(0.0),
+                        _ => f.fitted(nets).unwrap(),
+                    }
+                } else {
+                    m.ohms
+                }
+            })
+        } else {
+            net.ohms()
+        };
+        if ohms.0.is_finite() {
+            v.set(slot, ohms);
+        }
+    }
+    v
+}
+
+#[test]
+fn prepared_fault_values_match_a_full_recomputation() {
+    // Nested shapes of every kind, with values far apart so that a sum taken in another order would show.
+    let st = stage("divider", "npn");
+    let nested = Network::Parallel(vec![
+        Network::Series(vec![
+            part(47e3, "a"),
+            Network::Parallel(vec![part(10e3, "b"), part(1.0, "c"), part(2.2e6, "d")]),
+        ]),
+        part(150e3, "e"),
+        Network::Series(vec![part(33e3, "f"), part(0.47, "g")]),
+    ]);
+    let chain = Network::Series((0..64).map(|i| part(100.0 + i as f64, "h")).collect());
+    let nets = SlotNetworks::from_pairs([
+        (Slot::R1, chain),
+        (Slot::R2, nested),
+        (Slot::RC, part(3.9e3, "C1")),
+        (Slot::RE, part(820.0, "D1")),
+    ]);
+    let prepared = faults::Prepared::new(&st, &nets);
+    let mut compared = 0;
+    for f in faults::catalogue(&st, &nets) {
+        if f.place().is_none() {
+            continue;
+        }
+        let got = prepared
+            .values(Some(&f))
+            .expect("resistance faults have values");
+        let want = direct(&st, &nets, &f);
+        for slot in st.slots() {
+            match (got.get(slot), want.get(slot)) {
+                (Some(a), Some(b)) => assert!(
+                    (a.0 - b.0).abs() <= 1e-12 * b.0.abs().max(1e-300),
+                    "{f}: {slot} {} vs {}",
+                    a.0,
+                    b.0
+                ),
+                (None, None) => {}
+                other => panic!("{f}: {slot} {other:?}"),
+            }
+        }
+        compared += 1;
+    }
+    // 64 + 7 + 1 + 1 members, six faults each.
+    assert_eq!(compared, 6 * 73);
+}
+
+#[test]
+fn folding_alike_predictions_by_grid_equals_the_plain_scan() {
+    // Random predictions on a 0.7 mV lattice, so that many fall within 1 mV of another and some sit on the
+    // edge of a cell: the grid must pick the same first match as comparing with every kept one.
+    let mut seed = 7u64;
+    let mut next = || {
+        seed = seed
+            .wrapping_mul(6364136223846793005)
+            .wrapping_add(1442695040888963407);
+        (seed >> 33) % 12
+    };
+    let found: Vec<Explanation> = (0..400)
+        .map(|i| Explanation {
+            fault: Fault::Open(Place {
+                slot: Slot::R1,
+                member: i,
+            }),
+            score: 1.0,
+            beta: 100.0,
+            predicted: Nodes {
+                vb: Volts(2.0 + 0.0007 * next() as f64),
+                ve: Volts(1.4 + 0.0007 * next() as f64),
+                vc: Volts(6.0 + 0.0007 * next() as f64),
+            },
+            alike: Vec::new(),
+        })
+        .collect();
+    let mut plain: Vec<Explanation> = Vec::new();
+    for e in found.clone() {
+        let same = plain.iter_mut().find(|k| {
+            node_array(&k.predicted)
+                .iter()
+                .zip(node_array(&e.predicted))
+                .all(|(a, b)| (a - b).abs() <= 1e-3)
+        });
+        match same {
+            Some(k) => k.alike.push(e.fault),
+            None => plain.push(e),
+        }
+    }
+    let grid = fold_alike(found);
+    assert!(plain.len() > 20 && plain.len() < 400, "{}", plain.len());
+    assert_eq!(grid, plain);
 }

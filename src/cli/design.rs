@@ -65,9 +65,15 @@ pub struct DesignArgs {
     #[arg(long, value_name = "K", default_value_t = 200, allow_negative_numbers = true,
           value_parser = whole::<u32>(1, 100_000, "a number of variants per stage"))]
     pub variants: u32,
-    /// Stop after this many seconds and report the best verified design found
-    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
-    pub time_limit: Option<Duration>,
+    /// Stop after this many seconds, reading and search together, and report the best verified design found
+    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds,
+          default_value = super::flags::DEFAULT_TIME_LIMIT)]
+    pub time_limit: Duration,
+    /// For tests: cut each stage's search after this many error evaluations, as the time limit would, at
+    /// the same place on every machine
+    #[arg(long, value_name = "N", hide = true,
+          value_parser = whole::<u64>(0, u64::MAX, "a number of error evaluations"))]
+    pub search_budget: Option<u64>,
     #[command(flatten)]
     pub defaults: DefaultArgs,
     #[command(flatten)]
@@ -168,15 +174,24 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
         .drawings
         .outputs(&[("design file", &args.file), ("stock file", &args.stock)]);
     args.drawings.check(&outputs)?;
-    let (design_file, _) = stages(&args.file, None)?;
-    let stock = load_stock(&args.stock, &args.defaults)?;
+    // One deadline for the whole command, reading the files included.
+    let started = std::time::Instant::now();
+    let (file, stock_file, defaults) =
+        (args.file.clone(), args.stock.clone(), args.defaults.clone());
+    let (design_file, stock) = super::output::read_within(
+        started + args.time_limit,
+        &format!("{} and {}", args.file.display(), args.stock.display()),
+        move || Ok((stages(&file, None)?.0, load_stock(&stock_file, &defaults)?)),
+    )?;
     let request = Request {
         max_parts: args.parts as usize,
         copies: args.copies,
         keep: keeps(&design_file, &args)?,
         variants: args.variants as usize,
         alternatives: args.alternatives,
-        time_limit: args.time_limit,
+        time_limit: Some(args.time_limit),
+        deadline: Some(started + args.time_limit),
+        search_budget: args.search_budget,
         robust: args.robust,
         robust_temp: args
             .temp
@@ -185,15 +200,15 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
             .transpose()?,
         ..Request::default()
     };
-    let progress = Progress::start("searching");
+    let progress = Progress::start("searching", Some((started, args.time_limit)));
     let outcome = design(&design_file, &stock, &request, &mut |p| progress.phase(p));
     drop(progress);
     let outcome = match outcome {
         Ok(o) => o,
+        Err(e @ DesignError::TimedOut(_)) => return Err(Failure::TimedOut(e.to_string())),
         Err(
             e @ (DesignError::Infeasible { .. }
             | DesignError::Scarce(_)
-            | DesignError::TimedOut(_)
             | DesignError::EmptyStock(_)),
         ) => return Err(Failure::Infeasible(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),

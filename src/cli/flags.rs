@@ -36,6 +36,11 @@ where
 /// [`Duration`] holds (a bare `f64` of seconds could overflow it).
 pub const MAX_SECONDS: f64 = 86_400.0;
 
+/// `design`'s and `order`'s time limit when none is given, seconds: a minute is about as long as a person
+/// waits at a prompt without wondering whether the program hangs, and the demos finish in well under a
+/// second. The limit covers the whole command, so every run ends; `--time-limit 3600` allows an hour.
+pub const DEFAULT_TIME_LIMIT: &str = "60";
+
 /// A time limit in seconds, above 0 and at most a day ("0.5", "30", "2e1").
 pub fn seconds(text: &str) -> Result<Duration, String> {
     match text.trim().parse::<f64>() {

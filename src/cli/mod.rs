@@ -60,6 +60,9 @@ pub enum Failure {
     Infeasible(String),
     /// An output could not be written.
     Io(String),
+    /// The time limit passed before any design was found (a design found in time is reported as the best
+    /// found, exit 0).
+    TimedOut(String),
     /// The command ran, but a check failed; the report already says which.
     ChecksFailed,
 }
@@ -71,6 +74,7 @@ impl Failure {
             Failure::Input(_) => 2,
             Failure::Infeasible(_) => 3,
             Failure::Io(_) => 4,
+            Failure::TimedOut(_) => 5,
         }
     }
 }
@@ -121,7 +125,10 @@ pub fn main() -> ExitCode {
         }
         Err(f) => {
             match &f {
-                Failure::Input(m) | Failure::Infeasible(m) | Failure::Io(m) => {
+                Failure::Input(m)
+                | Failure::Infeasible(m)
+                | Failure::Io(m)
+                | Failure::TimedOut(m) => {
                     // One line, whatever a library or system message holds, and no control character
                     // from a file reaches the terminal.
                     eprintln!("error: {}", output::one_line(m))

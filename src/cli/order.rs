@@ -65,9 +65,10 @@ pub struct OrderArgs {
     #[arg(long, value_name = "K", default_value_t = 200, allow_negative_numbers = true,
           value_parser = whole::<u32>(1, 100_000, "a number of variants per stage"))]
     pub variants: u32,
-    /// Stop after this many seconds with the best purchase found
-    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds)]
-    pub time_limit: Option<Duration>,
+    /// Stop after this many seconds, reading and search together, with the best purchase found
+    #[arg(long, value_name = "S", allow_negative_numbers = true, value_parser = seconds,
+          default_value = super::flags::DEFAULT_TIME_LIMIT)]
+    pub time_limit: Duration,
     /// Write the order list to this CSV file (what `stock add --order` reads; - for standard output)
     #[arg(long, value_name = "FILE")]
     pub csv: Option<PathBuf>,
@@ -138,8 +139,15 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
             ));
         }
     }
-    let (design, _) = stages(&args.file, None)?;
-    let stock = load_stock(&args.stock, &args.defaults)?;
+    // One deadline for the whole command, reading the files included.
+    let started = Instant::now();
+    let (file, stock_file, defaults) =
+        (args.file.clone(), args.stock.clone(), args.defaults.clone());
+    let (design, stock) = super::output::read_within(
+        started + args.time_limit,
+        &format!("{} and {}", args.file.display(), args.stock.display()),
+        move || Ok((stages(&file, None)?.0, load_stock(&stock_file, &defaults)?)),
+    )?;
     let catalogue = match &args.catalog {
         Some(path) => Catalogue::load(path).map_err(|e| Failure::Input(e.to_string()))?,
         None => {
@@ -165,8 +173,9 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         (None, Some(e)) => Goal::MaxError(parse_bound(e)?),
         (None, None) => Goal::MaxError(0.005),
     };
-    let time_limit = args.time_limit;
+    let time_limit = Some(args.time_limit);
     let request = OrderRequest {
+        deadline: Some(started + args.time_limit),
         max_parts: args.parts as usize,
         copies: args.copies,
         goal,
@@ -174,8 +183,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         window: 3.0,
         time_limit,
     };
-    let started = Instant::now();
-    let progress = Progress::start("searching");
+    let progress = Progress::start("searching", Some((started, args.time_limit)));
     let result = order(&design, &stock, &catalogue, &request, &mut |p| {
         progress.phase(p)
     });
@@ -183,6 +191,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     let outcome = match result {
         Ok(o) => o,
         Err(e @ OrderError::Infeasible(_)) => return Err(Failure::Infeasible(e.to_string())),
+        Err(e @ OrderError::TimedOut(_)) => return Err(Failure::TimedOut(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),
     };
     // The design report works on the combined parts, so the pick list names stock and bought parts alike;
@@ -201,6 +210,14 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
             }
             .to_string(),
             evaluations: 0,
+            result: if outcome.proven {
+                "optimal"
+            } else {
+                "best found"
+            }
+            .to_string(),
+            bound: outcome.bound,
+            time_limit: time_limit.map(|l| l.as_secs_f64()),
         },
         notes: Vec::new(),
     };

@@ -260,8 +260,12 @@ pub struct Progress {
 }
 
 impl Progress {
-    /// Starts the indicator (a no-op when stderr is not a terminal).
-    pub fn start(first: &str) -> Progress {
+    /// Starts the indicator (a no-op when stderr is not a terminal); with a time limit (the command's start
+    /// and its limit), the line shows the time used against it.
+    pub fn start(
+        first: &str,
+        limit: Option<(std::time::Instant, std::time::Duration)>,
+    ) -> Progress {
         use std::sync::atomic::{AtomicBool, Ordering};
         use std::sync::{Arc, Mutex};
         let phase = Arc::new(Mutex::new(first.to_string()));
@@ -279,11 +283,15 @@ impl Progress {
                         continue;
                     }
                     let text = phase.lock().map(|p| one_line(&p)).unwrap_or_default();
-                    eprint!(
-                        "\r\x1b[2K{} {text} ({:.0} s)",
-                        frames[i % 4],
-                        started.elapsed().as_secs_f64()
-                    );
+                    let clock = match limit {
+                        Some((from, l)) => format!(
+                            "{:.0} s of {:.0} s",
+                            from.elapsed().as_secs_f64(),
+                            l.as_secs_f64().max(1.0)
+                        ),
+                        None => format!("{:.0} s", started.elapsed().as_secs_f64()),
+                    };
+                    eprint!("\r\x1b[2K{} {text} ({clock})", frames[i % 4]);
                     shown = true;
                     i += 1;
                 }
@@ -313,5 +321,34 @@ impl Drop for Progress {
         if let Some(t) = self.thread.take() {
             let _ = t.join();
         }
+    }
+}
+
+/// Runs `read` (reading a command's input files) on a thread of its own and waits for it until `deadline`.
+/// Reading a huge stock cannot be cut short from inside, so past the deadline the command stops waiting and
+/// fails with a time-out (exit 5); the process then ends, and the reading with it. `what` names the files
+/// in the message.
+pub fn read_within<T: Send + 'static>(
+    deadline: std::time::Instant,
+    what: &str,
+    read: impl FnOnce() -> Result<T, Failure> + Send + 'static,
+) -> Result<T, Failure> {
+    let late = || {
+        Failure::TimedOut(format!(
+            "{what}: the time limit passed while reading them, before any search began; raise --time-limit (seconds; the default is 60)"
+        ))
+    };
+    if std::time::Instant::now() >= deadline {
+        return Err(late());
+    }
+    let (send, receive) = std::sync::mpsc::channel();
+    std::thread::spawn(move || {
+        // The command may have stopped waiting already; nobody is left to tell.
+        let _ = send.send(read());
+    });
+    let wait = deadline.saturating_duration_since(std::time::Instant::now());
+    match receive.recv_timeout(wait) {
+        Ok(result) => result,
+        Err(_) => Err(late()),
     }
 }

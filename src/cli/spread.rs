@@ -247,7 +247,7 @@ fn spread_circuit(
         },
         ..Options::default()
     };
-    let progress = super::output::Progress::start("spreading");
+    let progress = super::output::Progress::start("spreading", None);
     let report = biasfit::report::circuit::CircuitReport::new(c, &nets)
         .map_err(|e| super::check::unbuildable(&args.file, &e))?;
     let spread = biasfit::spread::circuit::spread_circuit(c, &nets, tol, &opts).map_err(input)?;

@@ -102,7 +102,7 @@ fn verify_circuit(
         .map_err(|e| Failure::Input(format!("--measured: {e}")))?;
     let (tol, watts) = args.parts.resolve()?;
     let nets = super::check::circuit_networks(c, &args.slots, tol, watts)?;
-    let progress = super::output::Progress::start("simulating faults");
+    let progress = super::output::Progress::start("simulating faults", None);
     let v = verify_circuit(c, &nets, &readings)
         .map_err(|e| super::check::unbuildable(&args.file, &e))?;
     drop(progress);

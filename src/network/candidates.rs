@@ -24,6 +24,8 @@
 use super::{Member, Network, PartId};
 use crate::stock::Stock;
 use crate::units::Ohms;
+use std::cell::Cell;
+use std::time::Instant;
 
 /// Two networks whose resistances differ by no more than this fraction count as the same value (1 ppm).
 pub const SAME_VALUE: f64 = 1e-6;
@@ -137,6 +139,21 @@ pub struct Index<'a> {
     max_parts: usize,
     entries: Vec<Entry>,
     values: Vec<f64>,
+    /// When a window search gives up (see [`Index::until`]).
+    deadline: Option<Instant>,
+    /// Loop turns since the clock was last read: reading it every turn would cost more than the turn.
+    ticks: Cell<u32>,
+    /// Whether the deadline stopped the last window search.
+    expired: Cell<bool>,
+}
+
+/// Why [`Index::in_window_until`] gave no list.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum Cut {
+    /// The window holds more networks than the limit.
+    TooMany,
+    /// The deadline passed before the window was searched.
+    TimedOut,
 }
 
 /// The indices of sorted `values` within [lo, hi], for bounds that only fall from one call to the next.
@@ -197,7 +214,39 @@ impl<'a> Index<'a> {
             max_parts,
             entries,
             values,
+            deadline: None,
+            ticks: Cell::new(0),
+            expired: Cell::new(false),
         }
+    }
+
+    /// The same index, with window searches ([`Index::in_window_until`]) that give up at `deadline`: a huge
+    /// stock with triples can take minutes to search, and the command's time limit covers it.
+    pub fn until(mut self, deadline: Option<Instant>) -> Index<'a> {
+        self.deadline = deadline;
+        self
+    }
+
+    /// Whether the deadline has passed, reading the clock every 256th call (a call is one turn of a search
+    /// loop, well under a microsecond, so the check comes a fraction of a millisecond late at most).
+    fn past_deadline(&self) -> bool {
+        if self.expired.get() {
+            return true;
+        }
+        let Some(d) = self.deadline else {
+            return false;
+        };
+        let t = self.ticks.get().wrapping_add(1);
+        self.ticks.set(t);
+        if t.is_multiple_of(256) && Instant::now() >= d {
+            self.expired.set(true);
+        }
+        self.expired.get()
+    }
+
+    /// Whether a window search should stop: more networks than `limit`, or past the deadline.
+    fn stop(&self, found: usize, limit: usize) -> bool {
+        found > limit || self.past_deadline()
     }
 
     /// How many stock parts (with pieces on hand) the search draws on.
@@ -216,17 +265,37 @@ impl<'a> Index<'a> {
     /// [`Index::in_window`], unless the window holds more than `limit` networks before deduplication: then
     /// None, found without building them all, so that a huge stock cannot exhaust memory.
     pub fn in_window_limited(&self, low: Ohms, high: Ohms, limit: usize) -> Option<Vec<Candidate>> {
+        self.in_window_until(low, high, limit).ok()
+    }
+
+    /// [`Index::in_window_limited`], telling a window too full from a deadline passed (set with
+    /// [`Index::until`]).
+    pub fn in_window_until(
+        &self,
+        low: Ohms,
+        high: Ohms,
+        limit: usize,
+    ) -> Result<Vec<Candidate>, Cut> {
+        let timed_out = || self.deadline.is_some_and(|d| Instant::now() >= d) || self.expired.get();
+        if timed_out() {
+            self.expired.set(true);
+            return Err(Cut::TimedOut);
+        }
         let mut raws = Vec::new();
         self.collect(low.0, high.0, limit, &mut raws);
         if raws.len() > limit {
-            return None;
+            return Err(Cut::TooMany);
         }
-        Some(
-            self.kept_from(raws)
-                .into_iter()
-                .map(|k| self.candidate(&k))
-                .collect(),
-        )
+        if timed_out() {
+            self.expired.set(true);
+            return Err(Cut::TimedOut);
+        }
+        let kept = self.kept_from(raws);
+        if timed_out() {
+            self.expired.set(true);
+            return Err(Cut::TimedOut);
+        }
+        Ok(kept.into_iter().map(|k| self.candidate(&k)).collect())
     }
 
     /// The `k` best networks for `target`, ranked by |relative error|; ties go to fewer parts, then the
@@ -333,7 +402,7 @@ impl<'a> Index<'a> {
         // per a (the pair search is the one that must take microseconds).
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
-            if out.len() > limit {
+            if self.stop(out.len(), limit) {
                 return;
             }
             if a + a > high {
@@ -346,7 +415,7 @@ impl<'a> Index<'a> {
         }
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
-            if out.len() > limit {
+            if self.stop(out.len(), limit) {
                 return;
             }
             if Shape::Parallel2.eval([a, a, 0.0]) > high {
@@ -374,14 +443,14 @@ impl<'a> Index<'a> {
         }
         // Three in series, smallest first in the loops, written largest first.
         for (i, &a) in v.iter().enumerate() {
-            if out.len() > limit {
+            if self.stop(out.len(), limit) {
                 return;
             }
             if a + a + a > high {
                 break;
             }
             for (j, &b) in v.iter().enumerate().skip(i) {
-                if out.len() > limit {
+                if self.stop(out.len(), limit) {
                     return;
                 }
                 if b + b + a > high {
@@ -400,7 +469,7 @@ impl<'a> Index<'a> {
         }
         // Three in parallel: i ≤ j ≤ k by value, so 1/R is at least 1/a and at most 3/a.
         for (i, &a) in v.iter().enumerate() {
-            if out.len() > limit {
+            if self.stop(out.len(), limit) {
                 return;
             }
             if Shape::Parallel3.eval([a, a, a]) > high {
@@ -418,7 +487,7 @@ impl<'a> Index<'a> {
                 i
             };
             for (j, &b) in v.iter().enumerate().skip(first) {
-                if out.len() > limit {
+                if self.stop(out.len(), limit) {
                     return;
                 }
                 if Shape::Parallel3.eval([a, b, b]) > high {
@@ -444,7 +513,7 @@ impl<'a> Index<'a> {
         }
         // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
-            if out.len() > limit {
+            if self.stop(out.len(), limit) {
                 return;
             }
             if a > high {
@@ -454,7 +523,7 @@ impl<'a> Index<'a> {
             let p_hi = high - a + slack;
             let first = v.partition_point(|&b| b < p_lo * (1.0 - SLACK));
             for (i, &b) in v.iter().enumerate().skip(first) {
-                if out.len() > limit {
+                if self.stop(out.len(), limit) {
                     return;
                 }
                 if a + Shape::Parallel2.eval([b, b, 0.0]) > high {
@@ -481,7 +550,7 @@ impl<'a> Index<'a> {
         }
         // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {
-            if out.len() > limit {
+            if self.stop(out.len(), limit) {
                 return;
             }
             if a < low * (1.0 - SLACK) {
@@ -501,7 +570,7 @@ impl<'a> Index<'a> {
             };
             let first = v.partition_point(|&b| b < s_lo / 2.0 * (1.0 - SLACK));
             for (j, &b) in v.iter().enumerate().skip(first) {
-                if out.len() > limit {
+                if self.stop(out.len(), limit) {
                     return;
                 }
                 if b > s_hi {
@@ -586,6 +655,11 @@ impl<'a> Index<'a> {
         let mut out = Vec::with_capacity(all.len());
         let mut start = 0;
         while start < all.len() {
+            // A window of a dense stock can hold a run of 300 000 networks, a fraction of a second's work:
+            // past the deadline the caller throws the list away, so stop building it.
+            if self.past_deadline() {
+                return out;
+            }
             let mut end = start + 1;
             while end < all.len() && close(all[end - 1].ohms, all[end].ohms) {
                 end += 1;
@@ -615,12 +689,21 @@ impl<'a> Index<'a> {
                 .map(|(i, r)| (self.preference(r), i as u32))
                 .collect();
             order.sort_unstable();
-            let mut kept = vec![false; run.len()];
+            // The kept ones so far, by position: whether one lies within a member's reach is a range query,
+            // O(log n) where scanning the reach cost its length (hundreds on a dense stock).
+            let mut kept_at: std::collections::BTreeSet<usize> = std::collections::BTreeSet::new();
             for (_, i) in order {
-                let (lo, hi) = reach[i as usize];
-                if !kept[lo..=hi].contains(&true) {
-                    kept[i as usize] = true;
+                if self.past_deadline() {
+                    return out;
                 }
+                let (lo, hi) = reach[i as usize];
+                if kept_at.range(lo..=hi).next().is_none() {
+                    kept_at.insert(i as usize);
+                }
+            }
+            let mut kept = vec![false; run.len()];
+            for i in kept_at {
+                kept[i] = true;
             }
             out.extend(run.iter().zip(kept).filter(|(_, k)| *k).map(|(r, _)| *r));
         }

@@ -8,7 +8,7 @@ use crate::units::{Tolerance, Watts};
 
 /// A network notation that could not be read.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
-#[error("\"{}\" is not a resistor network: {reason} (at character {position}); expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k", crate::notation::text::excerpt(.input))]
+#[error("\"{}\" is not a resistor network: {reason} (at character {position}); {expected}", crate::notation::text::excerpt(.input))]
 pub struct NetworkError {
     /// The text as given.
     pub input: String,
@@ -16,7 +16,20 @@ pub struct NetworkError {
     pub position: usize,
     /// What went wrong.
     pub reason: String,
+    /// What would have been accepted.
+    pub expected: &'static str,
 }
+
+/// What a network is, for a refusal of its notation.
+const NOTATION: &str =
+    "expected values joined by + (series) and | (parallel), e.g. 10k+4k7 or (220+47)|1k";
+
+/// The most resistors one network may have. biasfit's own designs use at most
+/// [`crate::network::candidates::MAX_PARTS`] (3) a slot, and a network built by hand on a bench (a string of
+/// equal parts to spread the dissipation, a trimmed ladder) rarely passes a dozen; 64 leaves a wide margin
+/// above both while keeping every command on a network (the fault catalogue of `verify` has six faults a
+/// member) well under a second. A longer "network" is a slip (a pasted list) or a probe, and is refused.
+pub const MAX_MEMBERS: usize = 64;
 
 struct Parser<'a> {
     input: &'a str,
@@ -25,6 +38,7 @@ struct Parser<'a> {
     tolerance: Tolerance,
     power: Watts,
     depth: usize,
+    members: usize,
 }
 
 /// How deeply parentheses may nest: far beyond any real network, and a guard against stack exhaustion.
@@ -36,6 +50,7 @@ impl Parser<'_> {
             input: self.input.to_string(),
             position: self.at + 1,
             reason: reason.into(),
+            expected: NOTATION,
         })
     }
 
@@ -115,6 +130,16 @@ impl Parser<'_> {
                 } else {
                     text
                 };
+                self.members += 1;
+                if self.members > MAX_MEMBERS {
+                    self.at = start;
+                    return Err(NetworkError {
+                        input: self.input.to_string(),
+                        position: start + 1,
+                        reason: format!("it has more than {MAX_MEMBERS} resistors"),
+                        expected: "expected at most 64 resistors in one network (far more than any bench network needs); check that the list is one slot's network",
+                    });
+                }
                 match parse_ohms(&text) {
                     Ok(ohms) => Ok(Network::Single(Member::loose(
                         ohms,
@@ -169,6 +194,7 @@ pub fn parse_network(
         tolerance,
         power,
         depth: 0,
+        members: 0,
     };
     if p.peek().is_none() {
         return p.fail("it is empty");
@@ -276,6 +302,29 @@ mod tests {
         }
         let deep = format!("{}1k{}", "(".repeat(100), ")".repeat(100));
         assert!(parse_network(&deep, Tolerance(0.05), Watts(0.25)).is_err());
+    }
+
+    #[test]
+    fn caps_the_members_of_one_network() {
+        let chain = |n: usize| vec!["1k"; n].join("+");
+        // The cap itself is accepted, in any shape.
+        assert_eq!(parse(&chain(MAX_MEMBERS)).part_count(), MAX_MEMBERS);
+        let mixed = format!("({})|({})", chain(32), chain(32));
+        assert_eq!(parse(&mixed).part_count(), 64);
+        // One more is refused, pointing at the first member past the cap (character 3·64 + 1 of "1k+1k+…").
+        let err = parse_network(&chain(MAX_MEMBERS + 1), Tolerance(0.05), Watts(0.25))
+            .expect_err("65 members");
+        assert_eq!(err.position, 3 * MAX_MEMBERS + 1);
+        let msg = err.to_string();
+        assert!(
+            msg.contains(&format!("more than {MAX_MEMBERS} resistors"))
+                && msg.contains(&format!("at most {MAX_MEMBERS} resistors")),
+            "{msg}"
+        );
+        // A huge paste is refused the same way, and its echo stays short.
+        let huge = chain(100_000);
+        let err = parse_network(&huge, Tolerance(0.05), Watts(0.25)).expect_err("huge");
+        assert!(err.to_string().len() < 400, "{}", err.to_string().len());
     }
 
     proptest! {

@@ -3,10 +3,11 @@
 //! baseline and, when nothing fits, the constraint that binds.
 
 use super::search::{
-    best_variants, Deviations, Effort, Evaluate, Found, GainWindow, Order, GAIN, IC, RC, VCE, VE,
+    best_variants, best_variants_within, Deviations, Effort, Evaluate, Found, GainWindow, Order,
+    Stop, GAIN, IC, RC, VCE, VE,
 };
 use super::share::{allocate, ShareError, Variant};
-use crate::network::candidates::{Candidate, Index};
+use crate::network::candidates::{Candidate, Cut, Index};
 use crate::network::{Network, PartId};
 use crate::stage::{
     Check, Design, Slot, SlotNetworks, SlotValues, Stage, StageError, Targets, Topology,
@@ -30,6 +31,12 @@ pub struct Request {
     pub alternatives: usize,
     /// Stop searching after this long and return the best verified design found.
     pub time_limit: Option<Duration>,
+    /// Stop at this instant at the latest: a command computes it once, when it starts, so that reading its
+    /// files counts against its time limit too. The earlier of this and `time_limit` from the call wins.
+    pub deadline: Option<Instant>,
+    /// Cut each stage's search after this many error evaluations, as the time limit would: the same cut on
+    /// every machine, for tests and repeatable benchmarks.
+    pub search_budget: Option<u64>,
     /// Each slot's candidates lie within this factor of its ideal value.
     pub window: f64,
     /// Choose by the worst-case error over tolerance, beta and temperature instead of the nominal error. The
@@ -38,6 +45,34 @@ pub struct Request {
     /// The temperature range of the worst case; by default each stage's `limits.temperature`, else the
     /// spread command's default range.
     pub robust_temp: Option<(Celsius, Celsius)>,
+}
+
+impl Request {
+    /// The instant the work must stop by, for work that starts at `started`.
+    pub fn deadline_from(&self, started: Instant) -> Option<Instant> {
+        earliest(self.deadline, self.time_limit.map(|l| started + l))
+    }
+}
+
+/// The earlier of two optional instants.
+pub fn earliest(a: Option<Instant>, b: Option<Instant>) -> Option<Instant> {
+    match (a, b) {
+        (Some(a), Some(b)) => Some(a.min(b)),
+        (a, None) => a,
+        (None, b) => b,
+    }
+}
+
+/// A share of the time left before `deadline` for one of `parts` pieces of work still to do, keeping a
+/// tenth in hand for what follows them (sharing the stock): every stage gets its turn, however slow the
+/// first.
+pub fn share_of(deadline: Option<Instant>, parts: usize) -> Option<Instant> {
+    deadline.map(|d| {
+        let now = Instant::now();
+        now + d
+            .saturating_duration_since(now)
+            .mul_f64(0.9 / parts.max(1) as f64)
+    })
 }
 
 impl Default for Request {
@@ -49,6 +84,8 @@ impl Default for Request {
             variants: 200,
             alternatives: 0,
             time_limit: None,
+            deadline: None,
+            search_budget: None,
             window: 3.0,
             robust: false,
             robust_temp: None,
@@ -82,6 +119,21 @@ pub struct SolverInfo {
     pub status: String,
     /// Error evaluations made by the exact search.
     pub evaluations: u64,
+    /// "optimal" when proven, else "best found": the best verified design in hand when the time ran out.
+    pub result: String,
+    /// What was proven about the largest stage error: no design beats it. Equal to the design's own when
+    /// optimal; below it (possibly 0) when the best found; None where nothing is proven (`--robust` cut
+    /// short, or a purchase's price).
+    pub bound: Option<f64>,
+    /// The time limit the command ran under, seconds (None: unlimited).
+    pub time_limit: Option<f64>,
+}
+
+impl SolverInfo {
+    /// Whether the answer is proven optimal.
+    pub fn optimal(&self) -> bool {
+        self.result == "optimal"
+    }
 }
 
 /// The hand-rounded baseline of one stage: each slot at its nearest single stock value.
@@ -138,10 +190,9 @@ pub enum DesignError {
         /// What binds, and the closest design.
         reason: String,
     },
-    /// The time limit passed before the search found any design of a stage.
-    #[error(
-        "stage \"{0}\": the time limit passed before any design was found; allow more --time-limit"
-    )]
+    /// The time limit passed before any design was found: the text names where (a stage, or the sharing of
+    /// the stock).
+    #[error("{0}: the time limit passed before any design was found; raise --time-limit (seconds; the default is 60), or narrow the search with fewer --parts or --variants")]
     TimedOut(String),
     /// The stock cannot cover every board.
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
@@ -347,14 +398,63 @@ pub fn design(
     }
     let started = Instant::now();
     let mut attempt = request.clone();
+    attempt.deadline = request.deadline_from(started);
+    // Under a limit, a design of single parts first, from a tenth of the time: it costs little (a window
+    // of singles is a binary search) and is a verified design to fall back on should the full search run
+    // out of time before it holds one.
+    let fallback = (request.max_parts > 1
+        && (attempt.deadline.is_some() || request.search_budget.is_some()))
+    .then(|| {
+        let mut quick = attempt.clone();
+        quick.max_parts = 1;
+        quick.alternatives = 0;
+        quick.deadline = attempt.deadline.map(|d| {
+            let now = Instant::now();
+            now + d.saturating_duration_since(now) / 10
+        });
+        progress("a first design of single parts");
+        design_once(design, stock, &quick, &mut |_| {}).ok()
+    })
+    .flatten();
+    let full = design_full(design, stock, &mut attempt, progress);
+    let fall_back = |mut f: Outcome, bound: Option<f64>| {
+        f.solver.status = "time limit".into();
+        f.solver.result = "best found".into();
+        f.solver.bound = bound;
+        f.solver.seconds = started.elapsed().as_secs_f64();
+        f.notes.push(
+            "the full search ran out of time: this design uses single parts, found first".into(),
+        );
+        f
+    };
+    let worst = |o: &Outcome| o.built.iter().map(|b| b.error).fold(0.0, f64::max);
+    match (full, fallback) {
+        (Ok(o), Some(f)) if !o.solver.optimal() && worst(&f) < worst(&o) => {
+            // The full search's bound holds for every design, the single-part one included.
+            let bound = o.solver.bound.map(|b| b.min(worst(&f)));
+            Ok(fall_back(f, bound))
+        }
+        (Err(DesignError::TimedOut(_)), Some(f)) => Ok(fall_back(f, None)),
+        (other, _) => other,
+    }
+}
+
+/// [`design`] without the fallback: the full search, retried with more variants while the stock is scarce.
+fn design_full(
+    design: &Design,
+    stock: &Stock,
+    attempt: &mut Request,
+    progress: &mut dyn FnMut(&str),
+) -> Result<Outcome, DesignError> {
     loop {
-        match design_once(design, stock, &attempt, progress) {
+        match design_once(design, stock, attempt, progress) {
             Err(DesignError::Scarce(_)) if attempt.variants < MAX_VARIANTS => {
-                if let Some(limit) = request.time_limit {
-                    match limit.checked_sub(started.elapsed()) {
-                        Some(left) if !left.is_zero() => attempt.time_limit = Some(left),
-                        _ => return design_once(design, stock, &attempt, progress),
-                    }
+                if attempt.deadline.is_some_and(|d| Instant::now() >= d) {
+                    // More variants might have covered the boards, but there is no time to look.
+                    return Err(DesignError::TimedOut(format!(
+                        "{} board(s) from {}",
+                        attempt.copies, stock.file
+                    )));
                 }
                 attempt.variants = (attempt.variants * 4).min(MAX_VARIANTS);
                 progress(&format!(
@@ -378,7 +478,10 @@ fn design_once(
     progress: &mut dyn FnMut(&str),
 ) -> Result<Outcome, DesignError> {
     let started = Instant::now();
+    let deadline = request.deadline_from(started);
     let on_hand: Vec<u32> = stock.parts.iter().map(|p| p.qty).collect();
+    // What is proven about each stage's best error, for the bound a cut-short answer states.
+    let mut floors: Vec<f64> = Vec::new();
     let mut variants: Vec<Variant> = Vec::new();
     let mut found_per_stage: Vec<Searched> = Vec::new();
     let mut baseline = Vec::new();
@@ -408,7 +511,9 @@ fn design_once(
                 });
             }
         }
-        let index = Index::new(stock, request.max_parts);
+        // This stage's share of the time left: candidates and search together.
+        let stage_deadline = share_of(deadline, design.stages.len() - si);
+        let index = Index::new(stock, request.max_parts).until(stage_deadline);
         let mut candidates: Vec<Vec<Candidate>> = Vec::new();
         for &s in &slots {
             if let Some((_, _, n)) = request
@@ -427,12 +532,19 @@ fn design_once(
             // until it holds a number the search can take, and say so.
             let mut window = request.window;
             loop {
-                if let Some(list) = index.in_window_limited(x / window, x * window, CANDIDATE_LIMIT)
-                {
-                    candidates.push(list);
-                    break;
+                match index.in_window_until(x / window, x * window, CANDIDATE_LIMIT) {
+                    Ok(list) => {
+                        candidates.push(list);
+                        break;
+                    }
+                    Err(Cut::TooMany) => window = window.sqrt(),
+                    Err(Cut::TimedOut) => {
+                        return Err(DesignError::TimedOut(format!(
+                            "stage \"{}\" (finding {s}'s networks)",
+                            stage.name
+                        )))
+                    }
                 }
-                window = window.sqrt();
             }
             if window < request.window {
                 narrowed.push(format!(
@@ -471,14 +583,18 @@ fn design_once(
         }
         let order = solve_order(stage.topology, &slots, &ideal.values, &stage.targets());
         let k = request.variants.max(request.alternatives + 1);
-        let deadline = request.time_limit.map(|l| started + l);
+        let stop = Stop {
+            deadline: stage_deadline,
+            evaluations: request.search_budget,
+        };
         let (found, effort): (Vec<Found>, Effort) =
-            best_variants(&model, &order, &candidates, k, &on_hand, deadline);
+            best_variants_within(&model, &order, &candidates, k, &on_hand, stop);
         evaluations += effort.evaluations;
         cut_short |= effort.cut_short;
         if found.is_empty() && effort.cut_short {
-            return Err(DesignError::TimedOut(stage.name.clone()));
+            return Err(DesignError::TimedOut(format!("stage \"{}\"", stage.name)));
         }
+        floors.push(effort.proven_floor(found.first().map(|f| f.error)));
         if found.is_empty() {
             return Err(infeasible(stage, &model, &order, &candidates, &on_hand));
         }
@@ -526,18 +642,16 @@ fn design_once(
         }
         worst_per_stage.push(worst_of);
         found_per_stage.push((slots, candidates, found));
-        if request.time_limit.is_some_and(|l| started.elapsed() >= l)
-            && si + 1 < design.stages.len()
-        {
-            cut_short = true;
-        }
     }
     progress("sharing the stock");
-    let remaining = request
-        .time_limit
-        .map(|l| l.saturating_sub(started.elapsed()));
-    let allocation = match allocate(&variants, design.stages.len(), request.copies, &on_hand, remaining) {
+    let allocation = match allocate(&variants, design.stages.len(), request.copies, &on_hand, deadline) {
         Ok(a) => a,
+        Err(ShareError::TimedOut) => {
+            return Err(DesignError::TimedOut(format!(
+                "sharing the stock among {} board(s)",
+                request.copies
+            )))
+        }
         Err(ShareError::Scarce { copies }) => {
             return Err(DesignError::Scarce(format!(
                 "the stock cannot build {copies} board(s): the {} best variants of each stage together need more parts than are on hand",
@@ -598,6 +712,18 @@ fn design_once(
         })
         .collect();
     let proven = allocation.proven && !cut_short;
+    // No design beats its worst stage's proven floor; when every stage's search finished, the variants are
+    // the exact K best and the program's own floor holds as well.
+    let worst = built.iter().map(|b| b.error).fold(0.0, f64::max);
+    let bound = if proven {
+        Some(worst)
+    } else if request.robust {
+        None
+    } else {
+        let stages = floors.iter().copied().fold(0.0, f64::max);
+        let program = if cut_short { 0.0 } else { allocation.floor };
+        Some(stages.max(program).min(worst))
+    };
     Ok(Outcome {
         built,
         alternatives,
@@ -607,6 +733,9 @@ fn design_once(
             variants: variants.len(),
             status: if proven { "optimal" } else { "time limit" }.to_string(),
             evaluations,
+            result: if proven { "optimal" } else { "best found" }.to_string(),
+            bound,
+            time_limit: request.time_limit.map(|l| l.as_secs_f64()),
         },
         notes: narrowed,
     })

@@ -180,6 +180,37 @@ pub struct Effort {
     pub accepted: u64,
     /// Whether the deadline stopped the search before it finished (the variants are then the best found).
     pub cut_short: bool,
+    /// The error below which the search has proven it holds every variant: infinite when it finished, else
+    /// the bound of the last pass it completed (0 when it completed none). So no variant of the stage has an
+    /// error below the smaller of this and the best variant found.
+    pub floor: f64,
+}
+
+impl Effort {
+    /// The proven lower bound on the stage's error given the best variant found (None: none found).
+    pub fn proven_floor(&self, best: Option<f64>) -> f64 {
+        match best {
+            Some(b) => b.min(self.floor),
+            None => self.floor.min(GIVE_UP),
+        }
+    }
+}
+
+/// When a search stops short of finishing.
+#[derive(Clone, Copy, Debug, Default, PartialEq)]
+pub struct Stop {
+    /// The instant to stop by.
+    pub deadline: Option<Instant>,
+    /// The most error evaluations to make: a limit that does not depend on the machine's speed, so that a
+    /// test (or a benchmark to be repeated) cuts the search at the same place every run.
+    pub evaluations: Option<u64>,
+}
+
+impl Stop {
+    /// Whether either limit is set.
+    pub fn any(&self) -> bool {
+        self.deadline.is_some() || self.evaluations.is_some()
+    }
 }
 
 /// The `k` best variants whose error is below [`GIVE_UP`], best first, meeting every hard constraint and
@@ -192,16 +223,51 @@ pub fn best_variants(
     stock: &[u32],
     deadline: Option<Instant>,
 ) -> (Vec<Found>, Effort) {
-    let mut effort = Effort::default();
+    let stop = Stop {
+        deadline,
+        evaluations: None,
+    };
+    best_variants_within(model, order, candidates, k, stock, stop)
+}
+
+/// [`best_variants`], stopping at the deadline or after a number of evaluations, whichever comes first;
+/// cut short, it returns the best verified variants in hand.
+pub fn best_variants_within(
+    model: &dyn Evaluate,
+    order: &Order,
+    candidates: &[Vec<Candidate>],
+    k: usize,
+    stock: &[u32],
+    stop: Stop,
+) -> (Vec<Found>, Effort) {
+    let mut effort = Effort {
+        floor: f64::INFINITY,
+        ..Effort::default()
+    };
     if k == 0 || candidates.iter().any(|c| c.is_empty()) {
         return (Vec::new(), effort);
     }
+    // Outer slots other than the emitter ones, each visited from its ideal value outward; the emitter slots
+    // come last, where the bound narrows them to a window. The visiting order is the same in every pass.
+    let plain: Vec<usize> = order
+        .outer
+        .iter()
+        .copied()
+        .filter(|s| !order.emitter.contains(s))
+        .collect();
+    let orders = visiting_order(model, order, candidates, &plain, stop, &mut effort);
     // Grow the bound until K variants lie below it: each pass finds every variant below its bound, so the
     // first pass that finds K of them has found the K best.
     // Start tight: on a dense stock a loose first bound would admit astronomically many near-misses before
     // the K best are in hand; on a sparse one the tight passes cost next to nothing.
     let mut cap = 1e-4;
+    // What the last completed pass found: every variant below its bound, all verified.
+    let mut before: Vec<Found> = Vec::new();
+    let mut proven_below = 0.0;
     loop {
+        if effort.cut_short {
+            break;
+        }
         let heap = pass(
             model,
             order,
@@ -209,16 +275,42 @@ pub fn best_variants(
             k,
             stock,
             cap,
-            deadline,
+            &plain,
+            &orders,
+            stop,
             &mut effort,
         );
-        if heap.len() >= k || cap >= GIVE_UP || effort.cut_short {
-            let mut found: Vec<Found> = heap.into_sorted_vec().into_iter().map(|e| e.0).collect();
+        let mut found: Vec<Found> = heap.into_sorted_vec().into_iter().map(|e| e.0).collect();
+        if effort.cut_short {
+            // The pass cut short holds some of the variants it would have found; the pass before holds all
+            // below its bound. Together they are the best verified variants in hand.
+            for f in before.drain(..) {
+                if !found.iter().any(|g| g.picks == f.picks) {
+                    found.push(f);
+                }
+            }
+            found.sort_by(|a, b| {
+                a.error
+                    .total_cmp(&b.error)
+                    .then(a.parts.cmp(&b.parts))
+                    .then_with(|| a.picks.cmp(&b.picks))
+            });
             found.truncate(k);
+            effort.floor = proven_below;
             return (found, effort);
         }
+        if found.len() >= k || cap >= GIVE_UP {
+            found.truncate(k);
+            effort.floor = f64::INFINITY;
+            return (found, effort);
+        }
+        before = found;
+        proven_below = cap;
         cap = (cap * 3.0).min(GIVE_UP);
     }
+    // The deadline passed while the visiting order was worked out: nothing verified yet.
+    effort.floor = 0.0;
+    (Vec::new(), effort)
 }
 
 #[allow(clippy::too_many_arguments)]
@@ -229,7 +321,9 @@ fn pass(
     k: usize,
     stock: &[u32],
     cap: f64,
-    deadline: Option<Instant>,
+    plain: &[usize],
+    orders: &[Vec<usize>],
+    stop: Stop,
     effort: &mut Effort,
 ) -> BinaryHeap<Entry> {
     let n = candidates.len();
@@ -243,19 +337,11 @@ fn pass(
         heap: BinaryHeap::new(),
         values: candidates.iter().map(|c| c[0].ohms).collect(),
         picks: vec![0usize; n],
-        deadline,
+        stop,
+        ticks: 0,
         effort,
     };
-    // Outer slots other than the emitter ones, each visited from its ideal value outward; the emitter slots
-    // come last, where the bound narrows them to a window.
-    let plain: Vec<usize> = order
-        .outer
-        .iter()
-        .copied()
-        .filter(|s| !order.emitter.contains(s))
-        .collect();
-    let orders = visiting_order(model, order, candidates, &plain, state.effort);
-    state.outer(&plain, &orders, 0);
+    state.outer(plain, orders, 0);
     state.heap
 }
 
@@ -272,6 +358,7 @@ fn visiting_order(
     order: &Order,
     candidates: &[Vec<Candidate>],
     plain: &[usize],
+    stop: Stop,
     effort: &mut Effort,
 ) -> Vec<Vec<usize>> {
     let nearest = |slot: usize| {
@@ -294,12 +381,22 @@ fn visiting_order(
     } else {
         &ALL
     };
+    let mut turns = 0u32;
     plain
         .iter()
         .map(|&slot| {
             let list = &candidates[slot];
             let mut keyed: Vec<(bool, f64, usize)> = (0..list.len())
-                .map(|i| {
+                .map_while(|i| {
+                    // Each probe is a few dozen solves: the clock is read every 64th.
+                    turns = turns.wrapping_add(1);
+                    if effort.cut_short
+                        || stop.evaluations.is_some_and(|n| effort.evaluations >= n)
+                        || (turns % 64 == 1 && stop.deadline.is_some_and(|d| Instant::now() >= d))
+                    {
+                        effort.cut_short = true;
+                        return None;
+                    }
                     let mut values = base.clone();
                     values[slot] = list[i].ohms;
                     if let Some(c) = order.collector {
@@ -317,7 +414,7 @@ fn visiting_order(
                         values[c] = base[c];
                     }
                     effort.evaluations += 1;
-                    (!model.electrical_ok(&values), b, i)
+                    Some((!model.electrical_ok(&values), b, i))
                 })
                 .collect();
             keyed.sort_by(|a, b| a.0.cmp(&b.0).then(a.1.total_cmp(&b.1)));
@@ -337,7 +434,9 @@ struct Pass<'a> {
     heap: BinaryHeap<Entry>,
     values: Vec<Ohms>,
     picks: Vec<usize>,
-    deadline: Option<Instant>,
+    stop: Stop,
+    /// Calls of [`Pass::expired`] since the clock was last read.
+    ticks: u32,
     effort: &'a mut Effort,
 }
 
@@ -361,8 +460,16 @@ impl Pass<'_> {
     /// Whether the deadline has passed; once it has, every loop unwinds.
     fn expired(&mut self) -> bool {
         if !self.effort.cut_short {
-            if let Some(d) = self.deadline {
-                self.effort.cut_short = Instant::now() >= d;
+            if let Some(n) = self.stop.evaluations {
+                self.effort.cut_short = self.effort.evaluations >= n;
+            }
+            if let Some(d) = self.stop.deadline {
+                // A call is one outer assignment or one scan step, microseconds of work: read the clock
+                // every 16th, so the check is cheap and still at most a few milliseconds late.
+                self.ticks = self.ticks.wrapping_add(1);
+                if self.ticks % 16 == 1 && Instant::now() >= d {
+                    self.effort.cut_short = true;
+                }
             }
         }
         self.effort.cut_short
@@ -447,6 +554,10 @@ impl Pass<'_> {
             })
         };
         scan_both_sides(best_scan, scan_len, &mut |i| {
+            // A loose bound can make one scan long: it stops at the deadline too.
+            if self.expired() {
+                return false;
+            }
             self.set(order.scan, i);
             self.effort.evaluations += 1;
             let d = self.model.deviations(&self.values);
@@ -484,6 +595,9 @@ impl Pass<'_> {
                             })
                         };
                         scan_range(best_c, from, to, &mut |j| {
+                            if self.expired() {
+                                return false;
+                            }
                             self.set(c, j);
                             self.effort.evaluations += 1;
                             let e = largest(&self.model.deviations(&self.values), &ALL);
@@ -802,6 +916,110 @@ mod tests {
             compared >= 15,
             "only {compared} cases had feasible variants"
         );
+    }
+
+    /// Every feasible variant's error over four slots of singles, by brute force, sorted.
+    fn exhaustive(lists: &[Vec<Candidate>], stock: &[u32]) -> Vec<f64> {
+        let mut all = Vec::new();
+        for a in 0..lists[0].len() {
+            for b in 0..lists[1].len() {
+                for c in 0..lists[2].len() {
+                    for d in 0..lists[3].len() {
+                        let picks = [(0, a), (1, b), (2, c), (3, d)];
+                        let v = picks.map(|(s, i)| lists[s][i].ohms);
+                        if !Divider.electrical_ok(&v) {
+                            continue;
+                        }
+                        let mut count = std::collections::BTreeMap::new();
+                        for (s, i) in picks {
+                            *count.entry(lists[s][i].uses[0].0).or_insert(0u32) += 1;
+                        }
+                        if count.iter().any(|(&p, &n)| n > stock[p]) {
+                            continue;
+                        }
+                        let e = largest(&Divider.deviations(&v), &ALL);
+                        if e < GIVE_UP {
+                            all.push(e);
+                        }
+                    }
+                }
+            }
+        }
+        all.sort_by(f64::total_cmp);
+        all
+    }
+
+    #[test]
+    fn a_search_cut_short_keeps_real_variants_and_a_true_floor() {
+        // The same kind of random dividers as the exhaustive comparison, each cut after a growing number of
+        // evaluations: whatever is returned must be real variants (errors the brute force also finds), the
+        // floor must never exceed the true best, and an uncut search must equal the full one.
+        let mut rng = Rng(29);
+        let ideal = [30e3, 7.5e3, 600.0, 2000.0];
+        let order = Order {
+            outer: vec![1, 2],
+            scan: 0,
+            collector: Some(3),
+            emitter: vec![2],
+            emitter_ohms: VE_T / (IC_T * (BETA + 1.0) / BETA),
+            centre: ideal.iter().map(|&x| Ohms(x)).collect(),
+            collector_target: Some(Ohms(RL)),
+            gain: None,
+        };
+        let (mut cut, mut kept_some) = (0, 0);
+        for _ in 0..12 {
+            let mut stock = Vec::new();
+            let mut lists: Vec<Vec<Candidate>> = vec![Vec::new(); 4];
+            for p in 0..40 {
+                let v = 10f64.powf(2.0 + 3.0 * rng.unit());
+                stock.push(1 + (rng.next() % 2) as u32);
+                for (s, &id) in ideal.iter().enumerate() {
+                    if v > id / 3.0 && v < id * 3.0 {
+                        lists[s].push(single(v, p));
+                    }
+                }
+            }
+            if lists.iter().any(|l| l.is_empty()) {
+                continue;
+            }
+            for l in &mut lists {
+                l.sort_by(|a, b| a.ohms.0.total_cmp(&b.ohms.0));
+            }
+            let all = exhaustive(&lists, &stock);
+            let k = 5;
+            let (full, _) = best_variants(&Divider, &order, &lists, k, &stock, None);
+            for budget in [0u64, 30, 100, 300, 1000, 3000, 100_000] {
+                let stop = Stop {
+                    deadline: None,
+                    evaluations: Some(budget),
+                };
+                let (found, effort) =
+                    best_variants_within(&Divider, &order, &lists, k, &stock, stop);
+                for f in &found {
+                    assert!(
+                        all.iter().any(|e| (e - f.error).abs() < 1e-12),
+                        "budget {budget}: {} is no variant",
+                        f.error
+                    );
+                }
+                assert!(found.windows(2).all(|w| w[0].error <= w[1].error));
+                let floor = effort.proven_floor(found.first().map(|f| f.error));
+                if let Some(best) = all.first() {
+                    assert!(
+                        floor <= best + 1e-12,
+                        "budget {budget}: floor {floor} > {best}"
+                    );
+                }
+                if effort.cut_short {
+                    cut += 1;
+                    kept_some += usize::from(!found.is_empty());
+                } else {
+                    assert_eq!(found, full, "budget {budget}");
+                }
+            }
+        }
+        // The budgets did cut, and some cut searches still held variants to return.
+        assert!(cut >= 10 && kept_some >= 3, "cut {cut}, kept {kept_some}");
     }
 
     #[test]

@@ -15,6 +15,20 @@ use good_lp::{
 use std::collections::BTreeMap;
 use std::time::{Duration, Instant};
 
+/// The time left before `deadline` for one solver call, never under 10 ms (the solver needs a positive
+/// limit, and a call that cannot finish in time reports so).
+fn left(deadline: Option<Instant>) -> Option<Duration> {
+    deadline.map(|d| {
+        d.saturating_duration_since(Instant::now())
+            .max(Duration::from_millis(10))
+    })
+}
+
+/// Whether `deadline` has passed.
+fn passed(deadline: Option<Instant>) -> bool {
+    deadline.is_some_and(|d| Instant::now() >= d)
+}
+
 /// One way to build one stage: its exact error and the stock parts it takes.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Variant {
@@ -39,6 +53,9 @@ pub struct Allocation {
     pub sum: f64,
     /// Whether the result is proven optimal (false when the time limit cut the search short).
     pub proven: bool,
+    /// The largest error no allocation of these variants can beat: the worst error itself when proven, else
+    /// the smallest worst error the search has not ruled out.
+    pub floor: f64,
 }
 
 /// Why no allocation exists.
@@ -74,7 +91,7 @@ pub fn allocate(
     stages: usize,
     copies: u32,
     stock: &[u32],
-    time_limit: Option<Duration>,
+    deadline: Option<Instant>,
 ) -> Result<Allocation, ShareError> {
     for s in 0..stages {
         if !variants.iter().any(|v| v.stage == s) {
@@ -87,6 +104,7 @@ pub fn allocate(
             worst: 0.0,
             sum: 0.0,
             proven: true,
+            floor: 0.0,
         });
     }
     // Fast path: each stage's own best variant, all copies alike, if the stock covers it, is optimal in both
@@ -112,38 +130,47 @@ pub fn allocate(
     let floor = best.iter().map(|&i| cost(&variants[i])).fold(0.0, f64::max);
     thresholds.retain(|&t| t >= floor - ERROR_EPSILON);
 
-    let started = Instant::now();
-    let remaining = |limit: Option<Duration>| limit.map(|l| l.saturating_sub(started.elapsed()));
     // Is everything (the largest threshold) feasible at all?
     let top = *thresholds.last().expect("at least one variant");
-    let mut best_found = match solve(variants, stages, copies, stock, top, remaining(time_limit))? {
+    let mut best_found = match solve(variants, stages, copies, stock, top, deadline)? {
         Some(a) => a,
         None => return Err(ShareError::Scarce { copies }),
     };
     let (mut lo, mut hi) = (0usize, thresholds.len() - 1);
     // Invariant: thresholds[hi] is feasible; everything below lo is infeasible.
     while lo < hi {
-        if time_limit.is_some_and(|l| started.elapsed() >= l) {
+        if passed(deadline) {
             best_found.proven = false;
             break;
         }
         let mid = (lo + hi) / 2;
-        match solve(
-            variants,
-            stages,
-            copies,
-            stock,
-            thresholds[mid],
-            remaining(time_limit),
-        )? {
-            Some(a) => {
+        match solve(variants, stages, copies, stock, thresholds[mid], deadline) {
+            Ok(Some(a)) => {
                 hi = mid;
                 let proven = best_found.proven && a.proven;
                 best_found = Allocation { proven, ..a };
             }
-            None => lo = mid + 1,
+            Ok(None) => lo = mid + 1,
+            // Out of time inside the solver: what is in hand stands, unproven.
+            Err(ShareError::TimedOut) => {
+                best_found.proven = false;
+                break;
+            }
+            Err(e) => return Err(e),
         }
     }
+    // Every allocation's worst cost is at least thresholds[lo], so its worst error is at least the smallest
+    // error among the variants of that cost or more.
+    best_found.floor = if best_found.proven && lo == hi {
+        best_found.worst
+    } else {
+        variants
+            .iter()
+            .filter(|v| cost(v) >= thresholds[lo] - ERROR_EPSILON)
+            .map(|v| v.error)
+            .fold(f64::INFINITY, f64::min)
+            .min(best_found.worst)
+    };
     // The allocation at the final threshold minimises the sum among those with that worst error.
     Ok(best_found)
 }
@@ -180,6 +207,7 @@ fn summarise(variants: &[Variant], mut chosen: Vec<(usize, u32)>, proven: bool) 
         worst,
         sum,
         proven,
+        floor: worst,
     }
 }
 
@@ -191,7 +219,7 @@ fn solve(
     copies: u32,
     stock: &[u32],
     threshold: f64,
-    time_limit: Option<Duration>,
+    deadline: Option<Instant>,
 ) -> Result<Option<Allocation>, ShareError> {
     Ok(solve_buying(
         variants,
@@ -201,7 +229,7 @@ fn solve(
         &[],
         threshold,
         None,
-        time_limit,
+        deadline,
     )?
     .map(|b| b.allocation))
 }
@@ -333,6 +361,20 @@ mod tests {
                     );
                     assert!(fits(&variants, &a.chosen, &stock));
                     assert!(a.proven);
+                    // Proven, the floor is the answer itself.
+                    assert_eq!(a.floor, a.worst, "case {case}");
+                    // Cut at once (a deadline already past): still an allocation that fits, never better
+                    // than the optimum, and a floor no higher than the optimum's worst error.
+                    match allocate(&variants, stages, copies, &stock, Some(Instant::now())) {
+                        Ok(cut) => {
+                            assert!(fits(&variants, &cut.chosen, &stock), "case {case}");
+                            assert!(cut.worst >= a.worst - 1e-6, "case {case}");
+                            assert!(cut.floor <= a.worst + 1e-12, "case {case}: {cut:?}");
+                            assert!(cut.floor <= cut.worst, "case {case}: {cut:?}");
+                        }
+                        Err(ShareError::TimedOut) => {}
+                        Err(e) => panic!("case {case}: {e}"),
+                    }
                 }
                 (w, g) => panic!("case {case}: exhaustive {w:?} but allocate {g:?}"),
             }
@@ -462,7 +504,7 @@ pub fn allocate_buying(
     stock: &[u32],
     offers: &[PackOffer],
     goal: Goal,
-    time_limit: Option<Duration>,
+    deadline: Option<Instant>,
 ) -> Result<Bought, ShareError> {
     for s in 0..stages {
         if !variants.iter().any(|v| v.stage == s) {
@@ -471,15 +513,13 @@ pub fn allocate_buying(
     }
     match goal {
         Goal::MaxError(bound) => solve_buying(
-            variants, stages, copies, stock, offers, bound, None, time_limit,
+            variants, stages, copies, stock, offers, bound, None, deadline,
         )?
         .ok_or(ShareError::Scarce { copies }),
         Goal::Budget(budget) => {
             let mut thresholds: Vec<f64> = variants.iter().map(cost).collect();
             thresholds.sort_by(f64::total_cmp);
             thresholds.dedup_by(|a, b| (*a - *b).abs() <= ERROR_EPSILON);
-            let started = Instant::now();
-            let remaining = || time_limit.map(|l| l.saturating_sub(started.elapsed()));
             let top = *thresholds.last().expect("at least one variant");
             let mut best = solve_buying(
                 variants,
@@ -489,12 +529,12 @@ pub fn allocate_buying(
                 offers,
                 top,
                 Some(budget),
-                remaining(),
+                deadline,
             )?
             .ok_or(ShareError::Scarce { copies })?;
             let (mut lo, mut hi) = (0usize, thresholds.len() - 1);
             while lo < hi {
-                if time_limit.is_some_and(|l| started.elapsed() >= l) {
+                if passed(deadline) {
                     best.allocation.proven = false;
                     break;
                 }
@@ -507,15 +547,33 @@ pub fn allocate_buying(
                     offers,
                     thresholds[mid],
                     Some(budget),
-                    remaining(),
-                )? {
-                    Some(b) => {
+                    deadline,
+                ) {
+                    Ok(Some(b)) => {
                         hi = mid;
+                        let proven = best.allocation.proven && b.allocation.proven;
                         best = b;
+                        best.allocation.proven = proven;
                     }
-                    None => lo = mid + 1,
+                    Ok(None) => lo = mid + 1,
+                    Err(ShareError::TimedOut) => {
+                        best.allocation.proven = false;
+                        break;
+                    }
+                    Err(e) => return Err(e),
                 }
             }
+            // As in [`allocate`]: no purchase within the budget has a worst error below this.
+            best.allocation.floor = if best.allocation.proven && lo == hi {
+                best.allocation.worst
+            } else {
+                variants
+                    .iter()
+                    .filter(|v| cost(v) >= thresholds[lo] - ERROR_EPSILON)
+                    .map(|v| v.error)
+                    .fold(f64::INFINITY, f64::min)
+                    .min(best.allocation.worst)
+            };
             Ok(best)
         }
     }
@@ -532,7 +590,7 @@ fn solve_buying(
     offers: &[PackOffer],
     threshold: f64,
     budget: Option<f64>,
-    time_limit: Option<Duration>,
+    deadline: Option<Instant>,
 ) -> Result<Option<Bought>, ShareError> {
     let allowed: Vec<usize> = (0..variants.len())
         .filter(|&i| cost(&variants[i]) <= threshold + ERROR_EPSILON)
@@ -576,8 +634,8 @@ fn solve_buying(
         Some(_) => errors + 1e-9 * money.clone(),
     };
     let mut model = problem.minimise(objective).using(microlp);
-    if let Some(limit) = time_limit {
-        model = model.with_time_limit(limit.as_secs_f64().max(0.01));
+    if let Some(limit) = left(deadline) {
+        model = model.with_time_limit(limit.as_secs_f64());
     }
     for s in 0..stages {
         let boards: Expression = allowed

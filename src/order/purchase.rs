@@ -10,9 +10,11 @@
 use super::catalogue::Catalogue;
 use super::orderfile::OrderLine;
 use super::Money;
-use crate::network::candidates::{Candidate, Index};
+use crate::network::candidates::{Candidate, Cut, Index};
 use crate::network::{Member, Network, PartId};
-use crate::optimise::design::{meets_hard_constraints, stage_variants, Built, CANDIDATE_LIMIT};
+use crate::optimise::design::{
+    earliest, meets_hard_constraints, share_of, stage_variants, Built, CANDIDATE_LIMIT,
+};
 use crate::optimise::share::{allocate_buying, Goal, PackOffer, ShareError, Variant};
 use crate::stage::{Design, SlotNetworks};
 use crate::stock::{Part, Stock};
@@ -34,6 +36,9 @@ pub struct OrderRequest {
     pub window: f64,
     /// Give up improving after this long.
     pub time_limit: Option<Duration>,
+    /// Stop at this instant at the latest (a command computes it when it starts, so that reading its files
+    /// counts too); the earlier of this and `time_limit` from the call wins.
+    pub deadline: Option<Instant>,
 }
 
 /// A finished order.
@@ -49,8 +54,11 @@ pub struct OrderOutcome {
     pub parts: Stock,
     /// How many of `parts` are stock parts (the rest are bought).
     pub stocked: usize,
-    /// Whether the integer program proved its answer optimal.
+    /// Whether the answer is proven optimal: every search finished and the integer program proved it.
     pub proven: bool,
+    /// With a budget, what is proven: no purchase within it has a largest stage error below this (the
+    /// design's own when proven optimal). None with an error bound, where the price is what is minimised.
+    pub bound: Option<f64>,
     /// Variants handed to the program.
     pub variants: usize,
 }
@@ -64,6 +72,9 @@ pub enum OrderError {
     /// No purchase meets the goal.
     #[error("{0}")]
     Infeasible(String),
+    /// The time limit passed before any purchase was found; the text says where.
+    #[error("{0}: the time limit passed before any purchase was found; raise --time-limit (seconds; the default is 60), or narrow the search with fewer --parts or --variants")]
+    TimedOut(String),
 }
 
 /// Pieces treated as "unlimited" for a catalogue part: far more than any order needs, small enough to add up.
@@ -78,7 +89,8 @@ pub fn order(
     progress: &mut dyn FnMut(&str),
 ) -> Result<OrderOutcome, OrderError> {
     let started = Instant::now();
-    let deadline = request.time_limit.map(|l| started + l);
+    let deadline = earliest(request.deadline, request.time_limit.map(|l| started + l));
+    let mut cut_short = false;
     let stocked = stock.parts.len();
     let mut combined_parts: Vec<Part> = stock.parts.clone();
     let mut offers = Vec::new();
@@ -103,8 +115,8 @@ pub fn order(
     }
     let combined = Stock::from_parts("stock and catalogue", combined_parts);
     let on_hand: Vec<u32> = combined.parts.iter().map(|p| p.qty).collect();
-    let stock_index = Index::new(stock, request.max_parts);
-    let combined_index = Index::new(&combined, request.max_parts);
+    let stock_index = Index::new(stock, request.max_parts).until(deadline);
+    let combined_index = Index::new(&combined, request.max_parts).until(deadline);
     let mut variants: Vec<Variant> = Vec::new();
     let mut networks_of: Vec<SlotNetworks> = Vec::new();
     for (si, stage) in design.stages.iter().enumerate() {
@@ -119,10 +131,16 @@ pub fn order(
         let window_list = |index: &Index, x: crate::units::Ohms| {
             let mut w = request.window;
             loop {
-                if let Some(l) = index.in_window_limited(x / w, x * w, CANDIDATE_LIMIT) {
-                    return l;
+                match index.in_window_until(x / w, x * w, CANDIDATE_LIMIT) {
+                    Ok(l) => return Ok(l),
+                    Err(Cut::TooMany) => w = w.sqrt(),
+                    Err(Cut::TimedOut) => {
+                        return Err(OrderError::TimedOut(format!(
+                            "stage \"{}\" (finding its networks)",
+                            stage.name
+                        )))
+                    }
                 }
-                w = w.sqrt();
             }
         };
         // Per slot: stock-only networks, and networks mixing stock and catalogue (the combined search may
@@ -131,8 +149,8 @@ pub fn order(
         let mut mixed_lists: Vec<Vec<Candidate>> = Vec::new();
         for &s in &slots {
             let x = ideal.values.get(s).expect("ideal sets every slot");
-            let own = window_list(&stock_index, x);
-            let mut mixed = window_list(&combined_index, x);
+            let own = window_list(&stock_index, x)?;
+            let mut mixed = window_list(&combined_index, x)?;
             let seen: BTreeSet<Vec<(PartId, u32)>> = mixed.iter().map(|c| c.uses.clone()).collect();
             mixed.extend(own.iter().filter(|c| !seen.contains(&c.uses)).cloned());
             mixed.sort_by(|a, b| a.ohms.0.total_cmp(&b.ohms.0));
@@ -174,11 +192,21 @@ pub fn order(
             });
             networks_of.push(nets);
         };
-        for lists in [&stock_lists, &mixed_lists] {
+        let before = variants.len();
+        for (turn, lists) in [&stock_lists, &mixed_lists].into_iter().enumerate() {
             if lists.iter().any(|l| l.is_empty()) {
                 continue;
             }
-            let (found, _) = stage_variants(stage, lists, request.variants, &on_hand, deadline);
+            // Two searches a stage: each gets its share of the time left.
+            let searches_left = 2 * (design.stages.len() - si) - turn;
+            let (found, effort) = stage_variants(
+                stage,
+                lists,
+                request.variants,
+                &on_hand,
+                share_of(deadline, searches_left),
+            );
+            cut_short |= effort.cut_short;
             for f in found {
                 let nets = SlotNetworks::from_pairs(
                     slots
@@ -218,11 +246,11 @@ pub fn order(
                 add(nets, &mut variants, &mut networks_of);
             }
         }
+        if variants.len() == before && cut_short {
+            return Err(OrderError::TimedOut(format!("stage \"{}\"", stage.name)));
+        }
     }
     progress("choosing the purchase");
-    let remaining = request
-        .time_limit
-        .map(|l| l.saturating_sub(started.elapsed()));
     // In the program, catalogue parts start from none on hand: every piece of them is bought.
     let free: Vec<u32> = combined
         .parts
@@ -230,7 +258,7 @@ pub fn order(
         .enumerate()
         .map(|(i, p)| if i < stocked { p.qty } else { 0 })
         .collect();
-    let bought = allocate_buying(&variants, design.stages.len(), request.copies, &free, &offers, request.goal, remaining)
+    let bought = allocate_buying(&variants, design.stages.len(), request.copies, &free, &offers, request.goal, deadline)
         .map_err(|e| match e {
             ShareError::NoVariant(s) => OrderError::Infeasible(format!(
                 "stage \"{}\": no network set from stock and catalogue meets the hard constraints",
@@ -243,6 +271,7 @@ pub fn order(
                 ),
                 Goal::Budget(b) => format!("no design can be completed within a budget of {b:.2}"),
             }),
+            ShareError::TimedOut => OrderError::TimedOut("choosing the purchase".into()),
             other => OrderError::Infeasible(other.to_string()),
         })?;
     let mut built: Vec<Built> = bought
@@ -297,7 +326,15 @@ pub fn order(
         cost: Money(bought.cost),
         parts: combined,
         stocked,
-        proven: bought.allocation.proven,
+        proven: bought.allocation.proven && !cut_short,
+        bound: match request.goal {
+            // The budget's program minimises the worst error; its floor holds over the variants found, and
+            // those are the exact K best only when every search finished.
+            Goal::Budget(_) if !cut_short => Some(bought.allocation.floor),
+            Goal::Budget(_) => Some(0.0),
+            // The error-bound program minimises the price, which has no bound to state.
+            Goal::MaxError(_) => None,
+        },
         variants: variants.len(),
     })
 }

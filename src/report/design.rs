@@ -3,7 +3,7 @@
 //!
 //! The JSON extends the stage-model contract: `{"stages":[stage object + "copies"], "pick":[{"ohms","count",
 //! "location","tolerance","power"}], "baseline":{"error", "stages":[…]}, "solver":{"seconds","variants",
-//! "status"}, "copies", "alternatives":[…], "cautions":[…]}`.
+//! "status","evaluations","result","bound","time_limit"}, "copies", "alternatives":[…], "cautions":[…]}`.
 
 use super::{table, Report, StageReport};
 use crate::notation::{code, engineering, trim_number};
@@ -302,16 +302,43 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
             p.count
         );
     }
-    let _ = writeln!(
-        out,
-        "\nsolver: {} variants in {:.2} s, {}",
-        r.solver.variants, r.solver.seconds, r.solver.status
-    );
+    let limit = r
+        .solver
+        .time_limit
+        .map(|l| format!("{} s", trim_number(l, 3)))
+        .unwrap_or_else(|| "the time limit".into());
+    let _ = if r.solver.optimal() {
+        writeln!(
+            out,
+            "\nsolver: {} variants in {:.2} s, {}",
+            r.solver.variants, r.solver.seconds, r.solver.status
+        )
+    } else {
+        writeln!(
+            out,
+            "\nsolver: {} variants in {:.2} s, best found (time limit {limit})",
+            r.solver.variants, r.solver.seconds
+        )
+    };
     for n in &r.notes {
         let _ = writeln!(out, "  note: {n}");
     }
-    if r.solver.status != "optimal" {
-        let _ = writeln!(out, "  the time limit cut the search short: this is the best verified design found, and may not be optimal");
+    if !r.solver.optimal() {
+        let _ = writeln!(
+            out,
+            "  the time limit ({limit}) ran out before the search finished: this is the best verified design found"
+        );
+        let _ = match r.solver.bound {
+            Some(b) if b > 0.0 => writeln!(
+                out,
+                "  proven: no design has a largest stage error below {} %; allow more --time-limit to close the gap",
+                trim_number(b * 100.0, 3)
+            ),
+            _ => writeln!(
+                out,
+                "  nothing better is ruled out yet; allow more --time-limit to search further"
+            ),
+        };
     }
     for c in &r.cautions {
         let _ = writeln!(out, "\ncaution: {c}");
