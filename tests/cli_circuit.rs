@@ -228,7 +228,9 @@ fn stage_commands_on_a_circuit_only_file_say_what_reads_circuits() {
     let err = stderr(&out);
     assert_eq!(err.lines().count(), 1, "{err}");
     assert!(
-        err.contains("only [[circuit]] tables; so far circuits are read by `biasfit check`"),
+        err.contains(
+            "only [[circuit]] tables; circuits are read by `biasfit check`, `spread` and `verify`"
+        ),
         "{err}"
     );
 }

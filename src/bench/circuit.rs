@@ -1,6 +1,11 @@
-//! The bench for a circuit of the user's own: readings at any named node, from real ground, judged as a
-//! stage's are ([`super::deviation`], [`super::GOOD`], [`super::ACCEPTABLE`]), then explained by simulating
-//! a fault of every part with the nodal engine and scoring each against the readings ([`score_pairs`]).
+//! The bench for a circuit of the user's own: readings at any named node (a rail too, as a supply check),
+//! from real ground. The circuit as designed is first fitted to the readings with each device's parameters
+//! anywhere in their ranges (a transistor at the low end of its beta is a good part); each reading is then
+//! judged against that fit: within ±5 % of the prediction plus 50 mV is good, ±10 % plus 50 mV acceptable,
+//! beyond that a fault (the trade's "within 10 % of calculated"; the 50 mV allows a VBE model's error and a
+//! meter's last digit on low readings, so a saturated switch's 80 mV is not judged on percent: common
+//! practice, no source). A faulty build is then explained by simulating a fault of every part with the
+//! nodal engine and scoring each against the readings ([`score_pairs`]).
 //!
 //! The catalogue: every resistor open (1 GΩ), shorted (1 mΩ) or of a wrong value (fitted to the readings,
 //! from a thirtieth to thirty times its own); every transistor with low gain (beta fitted from 1 to its
@@ -8,6 +13,92 @@
 //! dead (its collector–emitter or drain–source path open); every diode, LED or zener reversed or open.
 
 use super::{deviation, score_pairs, Verdict, ACCEPTABLE, GOOD, MIN_SCORE, TOP};
+
+/// The absolute allowance added to each band, volts: a VBE model's error and a meter's last digit.
+pub const ALLOWANCE: f64 = 0.05;
+
+/// A reading's judgement against a prediction: within ±5 % + 50 mV good, ±10 % + 50 mV acceptable.
+pub fn judge(measured: f64, predicted: f64) -> Verdict {
+    let off = (measured - predicted).abs();
+    // A part per billion of slack, so a reading on the band's edge is not failed by rounding.
+    let within = |band: f64| off <= (band * predicted.abs() + ALLOWANCE) * (1.0 + 1e-9);
+    if within(GOOD) {
+        Verdict::Good
+    } else if within(ACCEPTABLE) {
+        Verdict::Acceptable
+    } else {
+        Verdict::Fault
+    }
+}
+
+/// The parts whose parameters have ranges: bipolar transistors and FETs.
+fn ranged_parts(c: &Circuit) -> Vec<usize> {
+    c.parts
+        .iter()
+        .enumerate()
+        .filter(|(_, p)| matches!(p.kind, Kind::Bjt { .. } | Kind::Jfet(_) | Kind::Mosfet(_)))
+        .map(|(i, _)| i)
+        .collect()
+}
+
+/// A value at position `t` of a range: min at 0, typical at ½, max at 1, linear in between.
+fn along(min: f64, typ: f64, max: f64, t: f64) -> f64 {
+    if t <= 0.5 {
+        min + (typ - min) * 2.0 * t
+    } else {
+        typ + (max - typ) * (2.0 * t - 1.0)
+    }
+}
+
+/// A copy of the circuit with device `i`'s typical parameters moved to position `t` of their ranges.
+fn with_position(c: &mut Circuit, base: &Circuit, i: usize, t: f64) {
+    match (&mut c.parts[i].kind, &base.parts[i].kind) {
+        (Kind::Bjt { transistor: d, .. }, Kind::Bjt { transistor: b, .. }) => {
+            d.beta.typ = along(b.beta.min, b.beta.typ, b.beta.max, t);
+        }
+        (Kind::Jfet(d), Kind::Jfet(b)) => {
+            d.idss.typ = crate::units::Amps(along(b.idss.min.0, b.idss.typ.0, b.idss.max.0, t));
+            d.pinch_off.typ = crate::units::Volts(along(
+                b.pinch_off.min.0,
+                b.pinch_off.typ.0,
+                b.pinch_off.max.0,
+                t,
+            ));
+        }
+        (Kind::Mosfet(d), Kind::Mosfet(b)) => {
+            d.threshold.typ = crate::units::Volts(along(
+                b.threshold.min.0,
+                b.threshold.typ.0,
+                b.threshold.max.0,
+                t,
+            ));
+            d.k.typ = along(b.k.min, b.k.typ, b.k.max, t);
+        }
+        _ => {}
+    }
+}
+
+/// The circuit as designed fitted to the readings with every device anywhere in its ranges (two sweeps of
+/// a golden section per device): the fitted circuit, its score and its predictions.
+fn fit_in_range(c: &Circuit, ohms: &[Ohms], readings: &[Reading]) -> (Circuit, f64, Vec<f64>) {
+    let ranged = ranged_parts(c);
+    let mut fitted = c.clone();
+    for _ in 0..2 {
+        for &i in &ranged {
+            let mut trial = fitted.clone();
+            // Searched on [1, 2] as a log scale stands for t in [0, 1].
+            let (x, _) = fit(1.0, 2.0, &mut |x| {
+                with_position(&mut trial, c, i, x - 1.0);
+                predict(&trial, ohms, readings).map_or(0.0, |p| score_of(readings, &p))
+            });
+            with_position(&mut fitted, c, i, x - 1.0);
+        }
+    }
+    match predict(&fitted, ohms, readings) {
+        Some(p) => (fitted, score_of(readings, &p), p),
+        None => (c.clone(), 0.0, vec![f64::NAN; readings.len()]),
+    }
+}
 use crate::circuit::{Circuit, Kind, NodeId, Options, Solver};
 use crate::network::Network;
 use crate::units::Ohms;
@@ -52,9 +143,9 @@ pub enum ReadingError {
         /// The circuit's nodes.
         nodes: String,
     },
-    /// A rail's voltage is fixed: reading it says nothing about the build.
-    #[error("'{0}' is a rail at a fixed voltage in the file; read the nodes between the rails")]
-    Rail(String),
+    /// Ground is the meter's reference.
+    #[error("'gnd' is the 0 V reference the meter reads from; read the other nodes")]
+    Ground,
     /// Given twice.
     #[error("'{0}' is read twice; give each node once")]
     Twice(String),
@@ -75,13 +166,7 @@ pub enum ReadingError {
 
 /// Reads "c1=4.4,tail=-0.65" against a circuit's node names.
 pub fn parse_readings(c: &Circuit, text: &str) -> Result<Vec<Reading>, ReadingError> {
-    let free: Vec<&str> = c
-        .nodes
-        .iter()
-        .zip(&c.rails)
-        .filter(|(_, r)| r.is_none())
-        .map(|(n, _)| n.as_str())
-        .collect();
+    let free: Vec<&str> = c.nodes.iter().skip(1).map(String::as_str).collect();
     let nodes = free.join(", ");
     let example = free
         .first()
@@ -99,8 +184,8 @@ pub fn parse_readings(c: &Circuit, text: &str) -> Result<Vec<Reading>, ReadingEr
             nearest: crate::circuit::file::nearest(name, &free).map(str::to_string),
             nodes: nodes.clone(),
         })?;
-        if c.rails[node].is_some() {
-            return Err(ReadingError::Rail(name.into()));
+        if node == crate::circuit::GROUND {
+            return Err(ReadingError::Ground);
         }
         if out.iter().any(|r| r.node == node) {
             return Err(ReadingError::Twice(name.into()));
@@ -129,8 +214,8 @@ pub enum CircuitFault {
     Open(String),
     /// The part is shorted.
     Short(String),
-    /// A resistor of another value, fitted to the readings.
-    Value(String, Ohms),
+    /// A resistor of another value, fitted to the readings (fitted, then the part's own).
+    Value(String, Ohms, Ohms),
     /// A transistor of lower gain than its range, fitted.
     LowGain(String, f64),
     /// Fitted the wrong way round.
@@ -145,10 +230,27 @@ impl CircuitFault {
                 format!("{p} open (a dry joint, a broken part or an empty hole)")
             }
             CircuitFault::Short(p) => format!("{p} shorted (a solder bridge or a failed part)"),
-            CircuitFault::Value(p, r) => format!(
-                "{p} fitted as about {} (a wrong value taken from the drawer)",
-                crate::notation::code(*r)
-            ),
+            CircuitFault::Value(p, r, own) => {
+                let near = crate::notation::eseries::Series::E12.nearest(*r);
+                let ratio = r.0 / own.0;
+                let decades = ratio.log10().round();
+                let hint = if decades != 0.0 && (ratio / 10f64.powf(decades) - 1.0).abs() < 0.15 {
+                    format!(
+                        "a decade off: {} fitted for {}?",
+                        crate::notation::code(Ohms(own.0 * 10f64.powf(decades))),
+                        crate::notation::code(*own)
+                    )
+                } else {
+                    format!(
+                        "nearest E12 {}: a wrong value taken from the drawer?",
+                        crate::notation::code(near)
+                    )
+                };
+                format!(
+                    "{p} fitted as about {} ({hint})",
+                    crate::notation::value::code_with(*r, 3)
+                )
+            }
             CircuitFault::LowGain(p, b) => format!(
                 "{p} with a gain of about {}, below its range (a damaged or different part)",
                 crate::notation::trim_number(*b, 2)
@@ -162,7 +264,7 @@ impl CircuitFault {
         match self {
             CircuitFault::Open(p)
             | CircuitFault::Short(p)
-            | CircuitFault::Value(p, _)
+            | CircuitFault::Value(p, ..)
             | CircuitFault::LowGain(p, _)
             | CircuitFault::Reversed(p) => p,
         }
@@ -198,11 +300,18 @@ pub struct CircuitVerification {
     pub readings: Vec<Reading>,
     /// The prediction at each read node, at typical parameters and ambient.
     pub predicted: Vec<f64>,
-    /// Each reading's deviation from its prediction (with the floor of [`super::FLOOR`]).
+    /// The predictions with every device at the low ends of its ranges and at the high ends, low first.
+    pub range: Vec<(f64, f64)>,
+    /// The circuit as designed, fitted to the readings within its devices' ranges: what each reading is
+    /// judged against.
+    pub fitted: Vec<f64>,
+    /// Each reading's relative deviation from the fit (with the floor of [`super::FLOOR`]).
     pub deviations: Vec<f64>,
-    /// The judgement.
+    /// Each reading's judgement ([`judge`]).
+    pub judged: Vec<Verdict>,
+    /// The judgement of the whole: its worst reading's.
     pub verdict: Verdict,
-    /// How well the circuit as designed matches the readings.
+    /// How well the circuit as designed, its devices within their ranges, matches the readings.
     pub as_built_score: f64,
     /// Faults that explain the readings better than the design does, best first.
     pub explanations: Vec<CircuitExplanation>,
@@ -301,23 +410,63 @@ pub fn verify_circuit(
         .solve(&typical, &Options { check_latch: false })
         .map_err(crate::circuit::target::CheckError::from)?;
     let predicted: Vec<f64> = readings.iter().map(|r| s.nodes[r.node].0).collect();
-    let deviations: Vec<f64> = readings
+    // The range a good build may show: every device at the low ends of its ranges, and at the high ends.
+    let ranged = ranged_parts(c);
+    let corner = |t: f64| {
+        let mut k = c.clone();
+        for &i in &ranged {
+            with_position(&mut k, c, i, t);
+        }
+        predict(&k, &ohms, readings).unwrap_or_else(|| predicted.clone())
+    };
+    let (low, high) = (corner(0.0), corner(1.0));
+    let range: Vec<(f64, f64)> = low
+        .iter()
+        .zip(&high)
+        .map(|(a, b)| (a.min(*b), a.max(*b)))
+        .collect();
+    let (_, as_built_score, fitted) = fit_in_range(c, &ohms, readings);
+    // Judged against the in-range fit where it solves, else against the typical prediction.
+    let against: Vec<f64> = fitted
         .iter()
         .zip(&predicted)
+        .map(|(f, p)| if f.is_finite() { *f } else { *p })
+        .collect();
+    let deviations: Vec<f64> = readings
+        .iter()
+        .zip(&against)
         .map(|(r, p)| deviation(r.volts, *p))
         .collect();
-    let worst = deviations.iter().fold(0.0_f64, |m, d| m.max(d.abs()));
-    let verdict = if worst <= GOOD {
-        Verdict::Good
-    } else if worst <= ACCEPTABLE {
+    let judged: Vec<Verdict> = readings
+        .iter()
+        .zip(&against)
+        .map(|(r, p)| judge(r.volts, *p))
+        .collect();
+    let verdict = if judged.contains(&Verdict::Fault) {
+        Verdict::Fault
+    } else if judged.contains(&Verdict::Acceptable) {
         Verdict::Acceptable
     } else {
-        Verdict::Fault
+        Verdict::Good
     };
-    let as_built_score = score_of(readings, &predicted);
 
     let slots = c.slots();
     let mut found: Vec<CircuitExplanation> = Vec::new();
+    if verdict == Verdict::Good {
+        // A good build needs no explanation.
+        return Ok(CircuitVerification {
+            readings: readings.to_vec(),
+            predicted,
+            range,
+            fitted: against,
+            deviations,
+            judged,
+            verdict,
+            as_built_score,
+            explanations: found,
+            next: None,
+        });
+    }
     let mut push = |fault: CircuitFault, predicted: Option<Vec<f64>>| {
         if let Some(p) = predicted {
             let score = score_of(readings, &p);
@@ -361,7 +510,7 @@ pub fn verify_circuit(
                 // band, common practice, no source).
                 if (r / own - 1.0).abs() > ACCEPTABLE {
                     push(
-                        CircuitFault::Value(p.name.clone(), Ohms(r)),
+                        CircuitFault::Value(p.name.clone(), Ohms(r), Ohms(own)),
                         predict(&with_resistor(c, i, r, pins2), &others, readings),
                     );
                 }
@@ -369,8 +518,9 @@ pub fn verify_circuit(
             Kind::Bjt { transistor, .. } => {
                 let mut low = c.clone();
                 let (mut best, mut best_score) = (f64::NAN, -1.0);
-                if transistor.beta.min > 1.0 {
-                    let (b, sc) = fit(1.0, transistor.beta.min, &mut |b| {
+                // Below the range: inside it, the part is good and the in-range fit covers it.
+                if transistor.beta.min * 0.9 > 1.0 {
+                    let (b, sc) = fit(1.0, transistor.beta.min * 0.9, &mut |b| {
                         if let Kind::Bjt { transistor: t, .. } = &mut low.parts[i].kind {
                             t.beta.min = b;
                             t.beta.typ = b;
@@ -435,14 +585,17 @@ pub fn verify_circuit(
         }
     }
     // An explanation must beat the design by more than the rounding of a score to be worth a line.
-    found.retain(|e| e.score >= MIN_SCORE && e.score > as_built_score + 0.01);
+    found.retain(|e| e.score >= MIN_SCORE && e.score > as_built_score + 0.05);
     found.sort_by(|a, b| b.score.total_cmp(&a.score));
     found.truncate(TOP);
     let next = next_reading(c, &ohms, readings, &found);
     Ok(CircuitVerification {
         readings: readings.to_vec(),
         predicted,
+        range,
+        fitted: against,
         deviations,
+        judged,
         verdict,
         as_built_score,
         explanations: found,
@@ -527,7 +680,9 @@ fn faulty(c: &Circuit, ohms: &[Ohms], fault: &CircuitFault) -> Option<(Circuit, 
             with_resistor(c, i, SHORT, two),
             ohms_without(&slots, ohms, i),
         ),
-        CircuitFault::Value(_, r) => (with_resistor(c, i, r.0, two), ohms_without(&slots, ohms, i)),
+        CircuitFault::Value(_, r, _) => {
+            (with_resistor(c, i, r.0, two), ohms_without(&slots, ohms, i))
+        }
         CircuitFault::LowGain(_, b) => {
             let mut f = c.clone();
             if let Kind::Bjt { transistor: t, .. } = &mut f.parts[i].kind {

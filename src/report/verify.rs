@@ -426,10 +426,18 @@ pub struct CircuitReadingReport {
     pub node: String,
     /// Volts read, from ground.
     pub measured: f64,
-    /// Volts the design predicts, from ground.
+    /// Volts the design predicts at typical parameters, from ground.
     pub predicted: f64,
-    /// Relative deviation (with the 0.1 V floor).
+    /// The lowest and highest a good build shows: every device at the low ends of its ranges, at the high.
+    pub range: [f64; 2],
+    /// The design fitted to the readings within its devices' ranges: what the reading is judged against.
+    pub fitted: f64,
+    /// Relative deviation from the fit (with the 0.1 V floor).
     pub deviation: f64,
+    /// "good", "acceptable" or "fault": within ±5 % + 50 mV, ±10 % + 50 mV, or beyond.
+    pub judged: &'static str,
+    /// Whether the node is a rail of the file (a supply check).
+    pub rail: bool,
 }
 
 /// One explanation of a circuit's readings, as reported.
@@ -498,13 +506,16 @@ impl CircuitVerifyReport {
             readings: v
                 .readings
                 .iter()
-                .zip(&v.predicted)
-                .zip(&v.deviations)
-                .map(|((r, p), d)| CircuitReadingReport {
+                .enumerate()
+                .map(|(k, r)| CircuitReadingReport {
                     node: c.nodes[r.node].clone(),
                     measured: r.volts,
-                    predicted: *p,
-                    deviation: *d,
+                    predicted: v.predicted[k],
+                    range: [v.range[k].0, v.range[k].1],
+                    fitted: v.fitted[k],
+                    deviation: v.deviations[k],
+                    judged: v.judged[k].name(),
+                    rail: c.rails[r.node].is_some(),
                 })
                 .collect(),
             as_built_score: v.as_built_score,
@@ -516,7 +527,7 @@ impl CircuitVerifyReport {
                     fault: e.fault.kind(),
                     description: e.fault.describe(),
                     fitted: match e.fault {
-                        CircuitFault::Value(_, r) => Some(r.0),
+                        CircuitFault::Value(_, r, _) => Some(r.0),
                         CircuitFault::LowGain(_, b) => Some(b),
                         _ => None,
                     },
@@ -557,17 +568,27 @@ pub fn render_circuit(r: &CircuitVerifyReport, built: &str) -> String {
     let mut rows = vec![vec![
         "node".to_string(),
         "expected".into(),
+        "device ranges".into(),
         "measured".into(),
-        "deviation".into(),
+        "off the fit".into(),
         String::new(),
     ]];
+    let fine = |x: f64| format!("{} V", trim_number(x, 4));
     for x in &r.readings {
         rows.push(vec![
-            x.node.clone(),
-            volts(x.predicted),
-            volts(x.measured),
+            if x.rail {
+                format!("{} (supply)", x.node)
+            } else {
+                x.node.clone()
+            },
+            fine(x.predicted),
+            format!("{} – {}", fine(x.range[0]), fine(x.range[1])),
+            fine(x.measured),
             percent(x.deviation),
-            judge(x.deviation).to_string(),
+            match x.judged {
+                "fault" => "FAULT".to_string(),
+                j => j.to_string(),
+            },
         ]);
     }
     out.push_str(&columns(&rows, 1, "  "));
@@ -575,16 +596,19 @@ pub fn render_circuit(r: &CircuitVerifyReport, built: &str) -> String {
     let worst = r
         .readings
         .iter()
+        .filter(|x| x.judged != "good")
         .max_by(|a, b| a.deviation.abs().total_cmp(&b.deviation.abs()));
     match (r.verdict, worst) {
-        ("good", _) => out.push_str("  verdict: good (every reading within ±5 % of the design)\n"),
-        ("acceptable", _) => {
-            out.push_str("  verdict: acceptable (every reading within ±10 % of the design)\n")
-        }
+        ("good", _) => out.push_str(
+            "  verdict: good (every reading within ±5 % + 50 mV of the design, its devices within their ranges)\n",
+        ),
+        ("acceptable", _) => out.push_str(
+            "  verdict: acceptable (every reading within ±10 % + 50 mV of the design, its devices within their ranges)\n",
+        ),
         (_, Some(w)) => {
             let _ = writeln!(
                 out,
-                "  verdict: fault ({} is {} {}, beyond ±10 %)",
+                "  verdict: fault ({} is {} {}, beyond ±10 % + 50 mV)",
                 w.node,
                 percent(w.deviation.abs()).trim_start_matches('+'),
                 if w.deviation < 0.0 { "low" } else { "high" }
@@ -592,9 +616,19 @@ pub fn render_circuit(r: &CircuitVerifyReport, built: &str) -> String {
         }
         _ => out.push_str("  verdict: fault\n"),
     }
+    for x in r.readings.iter().filter(|x| x.rail && x.judged != "good") {
+        let _ = writeln!(
+            out,
+            "  {} is a supply: it reads {} where the file says {}; set it right (or put what it really gives \
+             in the file) before judging the parts",
+            x.node,
+            fine(x.measured),
+            fine(x.predicted)
+        );
+    }
     let _ = writeln!(
         out,
-        "  as designed, the readings match {}",
+        "  as designed, its devices within their ranges, the readings match {}",
         match_percent(r.as_built_score)
     );
     if r.explanations.is_empty() {

@@ -126,7 +126,7 @@ pub enum DesignError {
         file: String,
     },
     /// The file holds circuits but no stages, and stages were asked for.
-    #[error("{file}: no [[stage]] tables, only [[circuit]] tables; so far circuits are read by `biasfit check` only (filling their slots from stock is to come)")]
+    #[error("{file}: no [[stage]] tables, only [[circuit]] tables; circuits are read by `biasfit check`, `spread` and `verify` (filling their slots from stock is to come)")]
     OnlyCircuits {
         /// The file.
         file: String,
