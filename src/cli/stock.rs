@@ -116,7 +116,28 @@ impl DefaultArgs {
 pub fn load(file: &Path, defaults: &DefaultArgs) -> Result<stock::Stock, Failure> {
     let s = stock::load(file, defaults.resolve()?).map_err(input)?;
     warn_all(&s.warnings);
+    warn_all(&defaults_hint(&s));
     Ok(s)
+}
+
+/// The flags that change what was assumed for blank fields (the library's warning says what, not how).
+fn defaults_hint(s: &stock::Stock) -> Vec<String> {
+    let flags: Vec<&str> = [
+        (s.defaulted.0 > 0, "--default-tolerance"),
+        (s.defaulted.1 > 0, "--default-power"),
+    ]
+    .iter()
+    .filter(|(used, _)| *used)
+    .map(|(_, f)| *f)
+    .collect();
+    if flags.is_empty() {
+        return Vec::new();
+    }
+    vec![format!(
+        "{}: give {} to assume something else for blank fields",
+        s.file,
+        flags.join(" or ")
+    )]
 }
 
 /// Runs `biasfit stock`.
@@ -144,6 +165,7 @@ pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
 fn load_for_edit(path: &Path, defaults: &DefaultArgs) -> Result<StockFile, Failure> {
     let sf = StockFile::load(path, defaults.resolve()?).map_err(input)?;
     warn_all(&sf.stock.warnings);
+    warn_all(&defaults_hint(&sf.stock));
     let stale: Vec<String> = save::leftovers(path)
         .iter()
         .map(|p| {
