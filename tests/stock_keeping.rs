@@ -43,6 +43,16 @@ fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
+/// Stderr without the one warning every run on the fixture drawer gives: its `colour` column is not read
+/// (issue 17: named, never ignored silently). Any other warning stays in.
+fn refusal(o: &Output) -> String {
+    stderr(o)
+        .lines()
+        .filter(|l| !(l.starts_with("warning: ") && l.contains("does not read the column(s) 'colour'")))
+        .map(|l| format!("{l}\n"))
+        .collect()
+}
+
 fn original(crlf: bool) -> String {
     let t = std::fs::read_to_string(fixture("drawer.csv")).unwrap();
     if crlf {
@@ -206,7 +216,8 @@ fn a_short_stock_is_refused_and_nothing_changes() {
         s(&fixture("design-needs-150k.json")),
     ]);
     assert_eq!(o.status.code(), Some(3));
-    let err = stderr(&o);
+    assert!(stderr(&o).contains("does not read the column(s) 'colour'"));
+    let err = refusal(&o);
     assert_eq!(
         err.trim_end(),
         format!(
@@ -340,7 +351,7 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
     ];
     for (args, code, want) in cases {
         let o = run(&args);
-        let err = stderr(&o);
+        let err = refusal(&o);
         assert_eq!(o.status.code(), Some(code), "{args:?}: {err}");
         assert!(err.contains(&want), "{args:?}: {err}");
         assert!(err.starts_with("error: "), "{args:?}: {err}");
