@@ -251,3 +251,21 @@ fn readme_shows_real_output_and_a_valid_design_file() {
     let design = biasfit::stage::parse("README.md", &readme[toml_start..toml_end]).unwrap();
     assert_eq!(design.stages[0].name, "line driver");
 }
+
+/// Issue 17: `||`, as "in parallel with" is written on paper, reads as `|` on the command line, and the
+/// user's guide says so.
+#[test]
+fn double_bar_reads_as_parallel() {
+    let use_single = "R1=36k|680k,R2=6k2+330R,RC=2k7,RE=820R|2k2";
+    let use_double = "R1=36k||680k,R2=6k2+330R,RC=2k7,RE=820R || 2k2";
+    let single = biasfit(&["check", "examples/line-driver.toml", "--use", use_single]);
+    let double = biasfit(&["check", "examples/line-driver.toml", "--use", use_double]);
+    assert!(double.status.success(), "{}", stderr(&double));
+    assert_eq!(stdout(&single), stdout(&double));
+    assert!(stdout(&double).contains("R1    36k|680k = 34k19"));
+    let out = biasfit(&["fix", "2k2||180", "--stock", "stock/hobby-drawer.csv"]);
+    assert_eq!(out.status.code(), Some(2), "fix takes a value, not a network");
+    let out = biasfit(&["check", "examples/line-driver.toml", "--use", "R1=36k|||680k,R2=6k2,RC=2k7,RE=560R"]);
+    assert_eq!(out.status.code(), Some(2), "three bars are refused");
+    assert!(user_docs().contains("`2k2||180`"), "the guide says `||` reads as `|`");
+}
