@@ -221,7 +221,7 @@ fn a_short_stock_is_refused_and_nothing_changes() {
     assert_eq!(
         err.trim_end(),
         format!(
-            "error: {}: the stock no longer holds the parts, so nothing was taken: 150k 5 % 250 mW: wanted 2, on hand 0",
+            "error: {}: the stock holds too few for this build (all its boards together), so nothing was taken: 150k 5 % 250 mW: 2 wanted, 0 on hand, 2 short",
             stock.display()
         )
     );
@@ -415,4 +415,33 @@ fn what_design_writes_is_what_take_reads() {
     let o = run(&["stock", "take", s(&stock), "--result", s(&result)]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert_eq!(pieces(&stock), before - picked);
+}
+
+/// Issue 17: a stock that never held enough for the boards asked for is not said to "no longer hold" them;
+/// the message says what is short and by how many, and nothing changes.
+#[test]
+fn too_few_for_the_boards_says_what_is_short() {
+    let (_dir, stock) = scratch("short-copies", false);
+    let o = run(&[
+        "stock",
+        "take",
+        s(&stock),
+        "--result",
+        s(&fixture("design-one.json")),
+        "--copies",
+        "7",
+    ]);
+    assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
+    let err = refusal(&o);
+    // One 390R a board, 6 in the drawer (C3): 7 boards want 7. The 2k7s (3 a board, 25 on hand) and the
+    // 8k2s (2 a board, 15 on hand) suffice for 7 boards.
+    assert_eq!(
+        err.trim_end(),
+        format!(
+            "error: {}: the stock holds too few for this build (all its boards together), so nothing was taken: 390R 5 % 500 mW: 7 wanted, 6 on hand, 1 short",
+            stock.display()
+        )
+    );
+    assert!(!err.contains("no longer"), "{err}");
+    assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
 }

@@ -114,6 +114,7 @@ pub fn networks(
 pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     let (tol, watts) = args.parts.resolve()?;
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
+    super::ideal::warn_ideal_failures(&design, &picked);
     if picked.len() > 1 {
         let names: Vec<String> = design
             .stages

@@ -122,6 +122,7 @@ fn parse_bound(text: &str) -> Result<f64, Failure> {
 /// Runs `biasfit order`.
 pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     let (design, _) = stages(&args.file, None)?;
+    super::ideal::warn_ideal_failures(&design, &(0..design.stages.len()).collect::<Vec<_>>());
     let stock = load_stock(&args.stock, &args.defaults)?;
     let catalogue = match &args.catalog {
         Some(path) => Catalogue::load(path).map_err(|e| Failure::Input(e.to_string()))?,

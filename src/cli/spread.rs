@@ -103,6 +103,7 @@ pub fn parse_range(text: &str) -> Result<(Celsius, Celsius), Failure> {
 pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let range = args.temp.as_deref().map(parse_range).transpose()?;
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
+    super::ideal::warn_ideal_failures(&design, &picked);
     let chosen: Vec<&Stage> = picked.iter().map(|&i| &design.stages[i]).collect();
     let nets: Vec<SlotNetworks> = match &args.result {
         Some(path) => {

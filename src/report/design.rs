@@ -25,6 +25,10 @@ pub struct BuiltStage {
     /// The worst-case error over tolerance, beta and temperature, when the design was chosen by it.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub worst_error: Option<f64>,
+    /// The checks the ideal design itself fails, each with what would fix it (no part does); absent when
+    /// the ideal passes.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub ideal_fails: Vec<String>,
 }
 
 /// One line of the pick list: what to pull from the drawer.
@@ -53,6 +57,8 @@ pub struct BaselineStage {
     pub in_stock: bool,
     /// Whether it meets the hard constraints.
     pub feasible: bool,
+    /// The hard constraints it fails, in words; empty when feasible.
+    pub fails: Vec<String>,
     /// Each slot's rounded value (letter code).
     pub slots: BTreeMap<String, String>,
 }
@@ -116,6 +122,7 @@ impl DesignReport {
                 stage: StageReport::new(&design.stages[b.stage], &b.networks),
                 copies: b.copies,
                 worst_error: b.worst,
+                ideal_fails: design.stages[b.stage].ideal_failure_notes(),
             })
             .collect();
         let mut counts: BTreeMap<usize, u32> = BTreeMap::new();
@@ -147,6 +154,7 @@ impl DesignReport {
             error: b.error,
             in_stock: b.in_stock,
             feasible: b.feasible,
+            fails: b.fails.clone(),
             slots: design.stages[b.stage]
                 .slots()
                 .into_iter()
@@ -224,9 +232,9 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
                     ", parts not all in stock"
                 },
                 if b.feasible {
-                    ""
+                    String::new()
                 } else {
-                    ", fails a hard constraint"
+                    format!(", fails {}", b.fails.join("; "))
                 },
             );
             let _ = writeln!(
@@ -243,12 +251,16 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
             );
         }
         // Common bench practice (no source): measured within 10 % of calculated is acceptable, 5 % the aim.
+        // Buying parts brings the error down; it cannot pass a check the ideal design fails (said below).
         if s.stage.error > 0.05 {
             let _ = writeln!(
                 out,
-                "  note: the closest the stock allows is {} from target; `biasfit order` finds what to buy",
+                "  note: the closest the stock allows is {} from target; `biasfit order` finds what to buy to come closer",
                 percent(s.stage.error)
             );
+        }
+        for n in &s.ideal_fails {
+            let _ = writeln!(out, "  note: {n}");
         }
     }
     if !r.alternatives.is_empty() {

@@ -283,7 +283,12 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
         row("RC against RL", code(Ohms(rl)), code(Ohms(rc)), Some(dr));
     }
     if let (Some(g), Some(dg), Some(ac)) = (t.gain, d.gain, &r.ac) {
-        row("gain", trim_number(g, 3), trim_number(ac.gain, 3), Some(dg));
+        let shown = if r.region == "active" {
+            trim_number(ac.gain, 3)
+        } else {
+            "none".to_string()
+        };
+        row("gain", trim_number(g, 3), shown, Some(dg));
     }
     out.push_str("</tbody></table>\n");
 

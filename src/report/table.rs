@@ -178,6 +178,11 @@ fn checks_table(s: &StageReport, colour: bool) -> String {
 fn ac_lines(s: &StageReport) -> String {
     match &s.ac {
         None => String::new(),
+        // Outside the active region the small-signal figures mean nothing: no gain, no swing.
+        Some(_) if s.region != "active" => format!(
+            "\n  ac: no gain: the transistor is in {} at typical beta, so the stage does not amplify\n",
+            s.region
+        ),
         Some(a) => format!(
             "\n  ac: re' {}, gain {} into the load, input {}, output {}, swing {} peak\n",
             code(Ohms(a.re_prime)),
@@ -297,7 +302,11 @@ pub fn render_check(r: &Report, colour: bool) -> String {
             g.row([
                 "gain".into(),
                 trim_number(gt, 3),
-                trim_number(ac.gain, 3),
+                if s.region == "active" {
+                    trim_number(ac.gain, 3)
+                } else {
+                    "none".to_string()
+                },
                 percent(dg),
             ]);
         }
