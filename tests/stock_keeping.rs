@@ -1,4 +1,4 @@
-//! `biasfit stock take` and `biasfit stock add` through the real binary, on the fixtures in
+//! `biasfit stock withdraw` (once `stock take`) and `biasfit stock add` through the real binary, on the fixtures in
 //! tests/fixtures/keep: the exact edits, the round trip, and every refusal leaving the file untouched.
 
 use std::path::{Path, PathBuf};
@@ -68,7 +68,7 @@ fn take_rewrites_only_the_qty_fields_and_keeps_a_backup() {
         let (_dir, stock) = scratch(&format!("take-{crlf}"), crlf);
         let o = run(&[
             "stock",
-            "take",
+            "withdraw",
             s(&stock),
             "--result",
             s(&fixture("design-one.json")),
@@ -98,7 +98,7 @@ fn take_then_add_the_same_parts_back_returns_the_file_byte_for_byte() {
         let before = std::fs::read(&stock).unwrap();
         let o = run(&[
             "stock",
-            "take",
+            "withdraw",
             s(&stock),
             "--result",
             s(&fixture("design-one.json")),
@@ -122,7 +122,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
     let (_dir, stock) = scratch("copies", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-one.json")),
@@ -140,7 +140,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
     let four = fixture("design-four.json");
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&four),
@@ -158,7 +158,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
     assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&four),
@@ -171,7 +171,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
         .contains("8k2,\"7\","));
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&four),
@@ -186,7 +186,7 @@ fn take_prefers_the_pick_s_location_then_file_order() {
     let (_dir, stock) = scratch("location", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-at-a2.json")),
@@ -210,7 +210,7 @@ fn a_short_stock_is_refused_and_nothing_changes() {
     let (dir, stock) = scratch("short", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-needs-150k.json")),
@@ -295,27 +295,27 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
     let missing = dir.join("no-such.csv");
     let cases: Vec<(Vec<&str>, i32, String)> = vec![
         (
-            vec!["stock", "take", s(&stock), "--result", s(&json)],
+            vec!["stock", "withdraw", s(&stock), "--result", s(&json)],
             2,
             format!("{}:1:37: missing field `tolerance`", json.display()),
         ),
         (
-            vec!["stock", "take", s(&stock), "--result", s(&frac)],
+            vec!["stock", "withdraw", s(&stock), "--result", s(&frac)],
             2,
             "invalid value: integer `-1`, expected u32".to_string(),
         ),
         (
-            vec!["stock", "take", s(&stock), "--result", s(&missing)],
+            vec!["stock", "withdraw", s(&stock), "--result", s(&missing)],
             2,
             format!("{}: cannot read the design result", missing.display()),
         ),
         (
-            vec!["stock", "take", s(&missing), "--result", s(&json)],
+            vec!["stock", "withdraw", s(&missing), "--result", s(&json)],
             2,
             format!("{}: cannot read the stock file", missing.display()),
         ),
         (
-            vec!["stock", "take", s(&bad_stock), "--result", s(&json)],
+            vec!["stock", "withdraw", s(&bad_stock), "--result", s(&json)],
             2,
             format!(
                 "{}:2: column qty: \"-1\" is not a quantity",
@@ -359,7 +359,7 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
         assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
     }
     // A missing flag is clap's to explain, with the usage line.
-    let o = run(&["stock", "take", s(&stock)]);
+    let o = run(&["stock", "withdraw", s(&stock)]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("--result <FILE>"), "{}", stderr(&o));
     assert!(!dir.join("drawer.csv.bak").exists());
@@ -370,7 +370,7 @@ fn the_plain_summary_still_works_beside_the_subcommands() {
     let o = run(&["stock", s(&fixture("drawer.csv"))]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(String::from_utf8(o.stdout).unwrap().contains("46 pieces"));
-    let o = run(&["stock", s(&fixture("drawer.csv")), "take"]);
+    let o = run(&["stock", s(&fixture("drawer.csv")), "withdraw"]);
     assert_eq!(o.status.code(), Some(2));
 }
 
@@ -412,7 +412,7 @@ fn what_design_writes_is_what_take_reads() {
             .unwrap()
     };
     let before = pieces(&stock);
-    let o = run(&["stock", "take", s(&stock), "--result", s(&result)]);
+    let o = run(&["stock", "withdraw", s(&stock), "--result", s(&result)]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert_eq!(pieces(&stock), before - picked);
 }
@@ -424,7 +424,7 @@ fn too_few_for_the_boards_says_what_is_short() {
     let (_dir, stock) = scratch("short-copies", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-one.json")),
@@ -444,4 +444,25 @@ fn too_few_for_the_boards_says_what_is_short() {
     );
     assert!(!err.contains("no longer"), "{err}");
     assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
+}
+
+/// Issue 17, item 7: `stock take` read as counting the stock in British usage; the command is `stock
+/// withdraw`, and the old name still works, with a one-line note that it is renamed.
+#[test]
+fn the_old_name_take_still_works_with_a_note() {
+    let (_dir, stock) = scratch("old-name", false);
+    let result = fixture("design-one.json");
+    let o = run(&["stock", "take", s(&stock), "--result", s(&result), "--dry-run"]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let notes: Vec<String> = refusal(&o).lines().map(String::from).collect();
+    assert_eq!(
+        notes,
+        ["note: `biasfit stock take` is now `biasfit stock withdraw` (it removes parts; it does not count them); the old name still works for now"]
+    );
+    let new = run(&["stock", "withdraw", s(&stock), "--result", s(&result), "--dry-run"]);
+    assert_eq!(String::from_utf8_lossy(&new.stdout), String::from_utf8_lossy(&o.stdout));
+    assert!(refusal(&new).is_empty(), "{}", stderr(&new));
+    let help = run(&["stock", "--help"]);
+    let help = String::from_utf8_lossy(&help.stdout);
+    assert!(help.contains("withdraw") && !help.contains("  take "), "{help}");
 }

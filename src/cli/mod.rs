@@ -44,7 +44,7 @@ enum Command {
     Spread(spread::SpreadArgs),
     /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
     Verify(verify::VerifyArgs),
-    /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
+    /// Validate and summarise a stock file (or withdraw and add parts: `stock withdraw`, `stock add`)
     Stock(stock::StockArgs),
 }
 

@@ -1,5 +1,6 @@
-//! `biasfit stock FILE`: validate a stock file and summarise it; `biasfit stock take` and `biasfit stock add`:
-//! keep it true to the drawer after a build or a delivery.
+//! `biasfit stock FILE`: validate a stock file and summarise it; `biasfit stock withdraw` and `biasfit stock
+//! add`: keep it true to the drawer after a build or a delivery. `stock take` is the old name of `withdraw`,
+//! kept working (hidden) with a note: in British usage a stocktake is a count of the stock, not a removal.
 
 use super::flags::whole;
 use super::output::warn_all;
@@ -32,16 +33,19 @@ pub struct StockArgs {
 /// What to do to a stock file other than summarise it.
 #[derive(Debug, Subcommand)]
 pub enum StockAction {
-    /// Subtract the parts a design used (keeps STOCK.bak, then rewrites only the qty fields)
+    /// Withdraw the parts a design used: subtract them (keeps STOCK.bak, then rewrites only the qty fields)
+    Withdraw(TakeArgs),
+    /// The old name of `withdraw`
+    #[command(hide = true)]
     Take(TakeArgs),
     /// Add the parts that arrived, from an order file (keeps STOCK.bak)
     Add(AddArgs),
 }
 
-/// Arguments of `biasfit stock take`.
+/// Arguments of `biasfit stock withdraw`.
 #[derive(Debug, Args)]
 pub struct TakeArgs {
-    /// The stock CSV file to take from
+    /// The stock CSV file to withdraw the parts from
     pub stock: PathBuf,
     /// The design result (what `biasfit design --json` wrote)
     #[arg(long, value_name = "FILE")]
@@ -143,7 +147,13 @@ fn defaults_hint(s: &stock::Stock) -> Vec<String> {
 /// Runs `biasfit stock`.
 pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
     match args.action {
-        Some(StockAction::Take(a)) => return take(a, out),
+        Some(StockAction::Withdraw(a)) => return take(a, out),
+        Some(StockAction::Take(a)) => {
+            super::output::note(
+                "note: `biasfit stock take` is now `biasfit stock withdraw` (it removes parts; it does not count them); the old name still works for now",
+            );
+            return take(a, out);
+        }
         Some(StockAction::Add(a)) => return add(a, out),
         None => {}
     }
@@ -228,7 +238,7 @@ fn finish(
     }
 }
 
-/// Runs `biasfit stock take`.
+/// Runs `biasfit stock withdraw` (or its old name, `stock take`).
 fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
     let sf = load_for_edit(&args.stock, &args.edit.defaults)?;
     let result = stocktake::load_result(&args.result).map_err(refused)?;

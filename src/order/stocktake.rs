@@ -1,4 +1,4 @@
-//! Keeping the stock file true to the drawer: take out the parts a design used (`stock take`) and put in the
+//! Keeping the stock file true to the drawer: take out the parts a design used (`stock withdraw`, once `stock take`) and put in the
 //! parts that arrived (`stock add`).
 //!
 //! Both are pure edits of the file's bytes: only the qty fields of the rows concerned are rewritten (the
@@ -42,7 +42,7 @@ impl StockFile {
     }
 }
 
-/// The part of a design result that stock take reads: what `biasfit design --json` writes, minus the
+/// The part of a design result that stock withdraw reads: what `biasfit design --json` writes, minus the
 /// stages.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct DesignResult {
