@@ -372,3 +372,39 @@ fn a_saturated_split_emitter_stage_reports_no_gain() {
     assert!(text.contains("headroom at min beta         0 V"), "{text}");
     assert!(!text.contains("e-1") && !text.contains("-0 "), "{text}");
 }
+
+/// Issue 17, item 8: the conventions the README writes down hold in the binary's output.
+#[test]
+fn the_written_conventions_hold() {
+    let docs = user_docs();
+    for said in ["magnitudes", "IE·β/(β+1)", "one millionth", "cut off"] {
+        assert!(docs.contains(said), "the README says {said}");
+    }
+    // supply and supply_neg are magnitudes: examples/two-stage.toml has supply = 9, supply_neg = -9.
+    let v = json(&biasfit(&[
+        "check", "examples/two-stage.toml", "--stage", "input", "--use", "RC=3k3,RE=6k8,RB=10k", "--json",
+    ]));
+    assert_eq!(v["stages"][0]["supply"], 9.0);
+    assert_eq!(v["stages"][0]["supply_neg"], 9.0);
+    // In saturation the diode law is evaluated at α·IE = IE·β/(β+1). examples/split-emitter.toml: VBE =
+    // 0.64 V + 1.1·VT·ln(I/1 mA) at 25 °C, VT = kT/q with k = 1.380649e-23 J/K and q = 1.602176634e-19 C
+    // (CODATA 2018, exact), T = 298.15 K.
+    let slots = "R1=47k,R2=33k,RC=6k8,RE1=240R,RE2=2k2";
+    let v = json(&biasfit(&["check", "examples/split-emitter.toml", "--use", slots, "--json"]));
+    let op = &v["stages"][0]["op"];
+    assert_eq!(op["region"], "saturation");
+    let f = |k: &str| op[k].as_f64().unwrap();
+    let vt = 1.380649e-23 * 298.15 / 1.602176634e-19;
+    let beta = f("beta");
+    let at_transport = 0.64 + 1.1 * vt * (f("ie") * beta / (beta + 1.0) / 1e-3).ln();
+    let at_ic = 0.64 + 1.1 * vt * (f("ic") / 1e-3).ln();
+    let vbe = f("vb") - f("ve");
+    assert!((vbe - at_transport).abs() < 1e-9, "{vbe} vs {at_transport}");
+    assert!((vbe - at_ic).abs() > 1e-4, "saturated, IC itself would give another VBE");
+    // A base held near 0 V (R1 = 1 GΩ against 33k) would leave IC far below 1 nA (10⁻⁶ × at): cut off.
+    let v = json(&biasfit(&[
+        "check", "examples/split-emitter.toml", "--use", "R1=1G,R2=33k,RC=6k8,RE1=240R,RE2=2k2", "--json",
+    ]));
+    assert_eq!(v["stages"][0]["region"], "cutoff");
+    assert_eq!(v["stages"][0]["op"]["ic"], 0.0);
+}
