@@ -187,6 +187,8 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
             evaluations: 0,
         },
         notes: Vec::new(),
+        // order takes no kept slots.
+        kept: Vec::new(),
     };
     let mut report = DesignReport::new(&design, &outcome.parts, &as_outcome, args.copies);
     report
@@ -197,7 +199,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         super::output::note(&format!("wrote {}", path.display()));
     }
     if args.drawings.wanted() {
-        let sheet = super::design::sheet(&design, &outcome.built);
+        let sheet = super::design::sheet(&design, &outcome.built, &[]);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
         for f in args
             .drawings

@@ -114,6 +114,19 @@ pub struct Outcome {
     pub solver: SolverInfo,
     /// Where the search was narrowed to keep a huge stock manageable.
     pub notes: Vec<String>,
+    /// The slots kept as given (already fitted), by stage index.
+    pub kept: Vec<(usize, Slot)>,
+}
+
+impl Outcome {
+    /// The slots of one stage that were kept as given.
+    pub fn kept_in(&self, stage: usize) -> Vec<Slot> {
+        self.kept
+            .iter()
+            .filter(|(s, _)| *s == stage)
+            .map(|&(_, slot)| slot)
+            .collect()
+    }
 }
 
 /// Why no design could be made.
@@ -602,6 +615,7 @@ fn design_once(
             evaluations,
         },
         notes: narrowed,
+        kept: request.keep.iter().map(|(s, slot, _)| (*s, *slot)).collect(),
     })
 }
 

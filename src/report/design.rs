@@ -102,6 +102,19 @@ pub struct DesignReport {
     pub cautions: Vec<String>,
     /// How the search was limited (a window narrowed on a huge stock), if at all.
     pub notes: Vec<String>,
+    /// The slots kept as given: already fitted, so on no pick list.
+    pub kept: Vec<KeptSlot>,
+}
+
+/// A slot kept as given (`--keep`): already fitted on the board.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct KeptSlot {
+    /// The stage's name.
+    pub stage: String,
+    /// The slot.
+    pub slot: String,
+    /// Its network in the `--use` notation.
+    pub network: String,
 }
 
 fn slot_codes(design: &Design, b: &Built) -> BTreeMap<String, String> {
@@ -119,7 +132,8 @@ impl DesignReport {
             .built
             .iter()
             .map(|b| BuiltStage {
-                stage: StageReport::new(&design.stages[b.stage], &b.networks),
+                stage: StageReport::new(&design.stages[b.stage], &b.networks)
+                    .with_kept(&outcome.kept_in(b.stage)),
                 copies: b.copies,
                 worst_error: b.worst,
                 ideal_fails: design.stages[b.stage].ideal_failure_notes(),
@@ -184,6 +198,25 @@ impl DesignReport {
             solver: outcome.solver.clone(),
             cautions,
             notes: outcome.notes.clone(),
+            kept: outcome
+                .built
+                .iter()
+                .filter(|b| b.copies > 0)
+                .flat_map(|b| {
+                    outcome.kept_in(b.stage).into_iter().filter_map(move |slot| {
+                        b.networks.get(slot).map(|n| KeptSlot {
+                            stage: design.stages[b.stage].name.clone(),
+                            slot: slot.to_string(),
+                            network: n.notation(),
+                        })
+                    })
+                })
+                .fold(Vec::new(), |mut v: Vec<KeptSlot>, k| {
+                    if !v.contains(&k) {
+                        v.push(k);
+                    }
+                    v
+                }),
         }
     }
 
@@ -311,6 +344,25 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
             percent(p.tolerance),
             engineering(p.power, "W"),
             p.count
+        );
+    }
+    if !r.kept.is_empty() {
+        let several = r.stages.len() > 1;
+        let kept: Vec<String> = r
+            .kept
+            .iter()
+            .map(|k| {
+                if several {
+                    format!("{} {} = {}", k.stage, k.slot, k.network)
+                } else {
+                    format!("{} = {}", k.slot, k.network)
+                }
+            })
+            .collect();
+        let _ = writeln!(
+            out,
+            "  already fitted (kept, not pulled): {}",
+            kept.join(", ")
         );
     }
     let _ = writeln!(

@@ -31,6 +31,8 @@ pub struct SheetStage {
     pub schematic: Schematic,
     /// The load line (give it a Monte Carlo cloud with [`LoadLine::with_cloud`] if you have one).
     pub load_line: LoadLine,
+    /// The slots kept as given: already fitted, so drawn and listed but not pulled from a drawer.
+    pub kept: Vec<Slot>,
 }
 
 impl SheetStage {
@@ -42,7 +44,15 @@ impl SheetStage {
             copies,
             schematic: Schematic::of(stage, networks),
             load_line: LoadLine::of(stage, &networks.values()),
+            kept: Vec::new(),
         }
+    }
+
+    /// Marks slots as kept: already fitted on the board.
+    pub fn with_kept(mut self, kept: &[Slot]) -> SheetStage {
+        self.report = self.report.with_kept(kept);
+        self.kept = kept.to_vec();
+        self
     }
 }
 
@@ -52,7 +62,8 @@ pub fn pick_list(stages: &[SheetStage]) -> Vec<PickLine> {
     let mut counts: BTreeMap<(Option<String>, u64, u64, u64), u32> = BTreeMap::new();
     for s in stages {
         for (slot, net) in s.networks.iter() {
-            if !s.schematic.slots.contains(&slot) {
+            // A kept slot is already on the board: nothing to pull.
+            if !s.schematic.slots.contains(&slot) || s.kept.contains(&slot) {
                 continue;
             }
             for m in net.members() {
@@ -246,11 +257,17 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
             })
             .collect();
         let (lo, hi) = net.band();
+        let parts = if s.kept.contains(slot) {
+            format!("<li class=\"kept\"><strong>already fitted</strong> (kept as given)</li>{parts}")
+        } else {
+            parts
+        };
         let _ = writeln!(
             out,
-            "<tr><td class=\"box\">☐</td><td class=\"code\">{slot}</td><td class=\"code\">{}</td><td \
+            "<tr><td class=\"box\">{}</td><td class=\"code\">{slot}</td><td class=\"code\">{}</td><td \
              class=\"num\">{}<br><span class=\"where\">{} … {}</span></td><td><ul \
              class=\"parts\">{parts}</ul></td><td>{}</td></tr>",
+            if s.kept.contains(slot) { "✓" } else { "☐" },
             e(&net.notation()),
             code(net.ohms()),
             signed_percent(lo),
@@ -442,7 +459,29 @@ pub fn build_sheet(
             p.count
         );
     }
-    out.push_str("</tbody></table>\n</section>\n");
+    out.push_str("</tbody></table>\n");
+    let kept: Vec<String> = stages
+        .iter()
+        .flat_map(|s| {
+            s.kept.iter().filter_map(move |slot| {
+                s.networks.get(*slot).map(|n| {
+                    if stages.len() > 1 {
+                        format!("{} {slot} = {}", s.report.name, n.notation())
+                    } else {
+                        format!("{slot} = {}", n.notation())
+                    }
+                })
+            })
+        })
+        .collect();
+    if !kept.is_empty() {
+        let _ = writeln!(
+            out,
+            "<p class=\"meta kept\">Already fitted (kept as given, not pulled): {}</p>",
+            e(&kept.join(", "))
+        );
+    }
+    out.push_str("</section>\n");
     out.push_str(
         "<footer>biasfit does arithmetic; it does not make a circuit safe. Parts run near their rating get hot; \
          supplies of 50 V DC or more, and anything mains-powered, are for people trained and licensed for them. \

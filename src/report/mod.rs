@@ -148,6 +148,8 @@ pub struct SlotReport {
     /// The nearest preferred values (for an ideal design).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub nearest: Option<Nearest>,
+    /// Whether the slot was kept as given (already fitted on the board), not chosen from stock.
+    pub kept: bool,
 }
 
 /// The slots of a stage, serialised as an object keyed by slot name, in R1, R2, RC, RE, RE1, RE2, RB order.
@@ -299,6 +301,7 @@ fn slot_report(net: &Network) -> SlotReport {
             })
             .collect(),
         nearest: None,
+        kept: false,
     }
 }
 
@@ -370,6 +373,14 @@ impl StageReport {
                 e24: Series::E24.nearest(r).0,
                 e96: Series::E96.nearest(r).0,
             });
+        }
+        self
+    }
+
+    /// Marks slots as kept: already fitted on the board, so not chosen from stock nor pulled from a drawer.
+    pub fn with_kept(mut self, kept: &[Slot]) -> StageReport {
+        for (slot, s) in &mut self.slots.0 {
+            s.kept = kept.contains(slot);
         }
         self
     }

@@ -260,6 +260,11 @@ pub fn render_check(r: &Report, colour: bool) -> String {
             } else {
                 sr.network.clone()
             };
+            let parts = if sr.kept {
+                format!("already fitted (kept): {parts}")
+            } else {
+                parts
+            };
             g.row([slot.name().to_string(), shown, parts]);
         }
         out.push('\n');
