@@ -408,3 +408,26 @@ fn the_written_conventions_hold() {
     assert_eq!(v["stages"][0]["region"], "cutoff");
     assert_eq!(v["stages"][0]["op"]["ic"], 0.0);
 }
+
+/// Issue 17, item 5: a network's value is shown to the digits its members change (up to 6 significant),
+/// and a part to be bought is not shown as if "to buy" were a drawer.
+#[test]
+fn values_show_the_digit_that_matters() {
+    // 165k + 27R4 = 165 027.4 Ω: "165k" would hide the 27R4; to 5 digits it is 165k03.
+    let out = biasfit(&["check", "examples/line-driver.toml", "--use", "R1=165k+27R4,R2=6k2+330R,RC=2k7,RE=820R|2k2"]);
+    let text = stdout(&out);
+    assert!(text.contains("R1    165k+27R4 = 165k03"), "{text}");
+    // A parallel pair keeps its 4 digits (36k|680k = 34.19 kΩ; the 680k moves it by 1.7 kΩ).
+    assert!(text.contains("RE    820R|2k2 = 597R4"), "{text}");
+    // Exact values keep their short code.
+    let out = biasfit(&["check", "examples/line-driver.toml", "--use", "R1=10k+10k,R2=6k8,RC=2k7,RE=560R"]);
+    assert!(stdout(&out).contains("R1    10k+10k = 20k"), "{}", stdout(&out));
+    assert!(user_docs().contains("to the digits its members change"));
+    let out = biasfit(&[
+        "order", "examples/line-driver.toml", "--stock", "stock/hobby-drawer.csv", "--catalog",
+        "stock/demo-catalogue.csv", "--copies", "8", "--error", "0.5%",
+    ]);
+    let text = stdout(&out);
+    assert!(text.contains("(to buy)"), "{text}");
+    assert!(!text.contains("@to buy"), "{text}");
+}

@@ -193,7 +193,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     let mut report = DesignReport::new(&design, &outcome.parts, &as_outcome, args.copies);
     report
         .pick
-        .retain(|p| p.location.as_deref() != Some("to buy"));
+        .retain(|p| p.location.as_deref() != Some(biasfit::stock::TO_BUY));
     if let Some(path) = &args.csv {
         write_atomic(path, render_csv(&outcome.lines).as_bytes())?;
         super::output::note(&format!("wrote {}", path.display()));

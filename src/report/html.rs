@@ -249,10 +249,11 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
                     code(m.ohms),
                     m.tolerance,
                     engineering(m.power.0, "W"),
-                    m.location
-                        .as_deref()
-                        .map(|l| format!(" <span class=\"where\">· {}</span>", e(l)))
-                        .unwrap_or_default()
+                    match m.location.as_deref() {
+                        Some(crate::stock::TO_BUY) => " <span class=\"where\">(to buy)</span>".to_string(),
+                        Some(l) => format!(" <span class=\"where\">· {}</span>", e(l)),
+                        None => String::new(),
+                    }
                 )
             })
             .collect();
@@ -269,7 +270,7 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
              class=\"parts\">{parts}</ul></td><td>{}</td></tr>",
             if s.kept.contains(slot) { "✓" } else { "☐" },
             e(&net.notation()),
-            code(net.ohms()),
+            net.value_code(),
             signed_percent(lo),
             signed_percent(hi),
             e(&connect(net)),

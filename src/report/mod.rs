@@ -150,6 +150,9 @@ pub struct SlotReport {
     pub nearest: Option<Nearest>,
     /// Whether the slot was kept as given (already fitted on the board), not chosen from stock.
     pub kept: bool,
+    /// The value as people read it: to the digits its members change (165k03 for 165k+27R4).
+    #[serde(skip)]
+    pub shown: String,
 }
 
 /// The slots of a stage, serialised as an object keyed by slot name, in R1, R2, RC, RE, RE1, RE2, RB order.
@@ -302,6 +305,7 @@ fn slot_report(net: &Network) -> SlotReport {
             .collect(),
         nearest: None,
         kept: false,
+        shown: net.value_code(),
     }
 }
 

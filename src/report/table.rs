@@ -248,15 +248,20 @@ pub fn render_check(r: &Report, colour: bool) -> String {
                         crate::units::Tolerance(p.tolerance),
                         engineering(p.power, "W")
                     );
-                    if let Some(l) = &p.location {
-                        let _ = write!(t, " @{l}");
+                    match p.location.as_deref() {
+                        // A part in a purchase has no drawer yet.
+                        Some(crate::stock::TO_BUY) => t.push_str(" (to buy)"),
+                        Some(l) => {
+                            let _ = write!(t, " @{l}");
+                        }
+                        None => {}
                     }
                     t
                 })
                 .collect::<Vec<_>>()
                 .join(", ");
             let shown = if sr.parts.len() > 1 {
-                format!("{} = {}", sr.network, code(Ohms(sr.ohms)))
+                format!("{} = {}", sr.network, sr.shown)
             } else {
                 sr.network.clone()
             };

@@ -165,6 +165,10 @@ pub const SCHEMA: Schema = Schema {
     example_header: "value,qty,tolerance,power,location",
 };
 
+/// The location given to parts that are not in the drawer but in a purchase (`order`): shown as "(to buy)",
+/// never as a drawer label.
+pub const TO_BUY: &str = "to buy";
+
 /// Reads a stock file from disk.
 pub fn load(path: &Path, defaults: Defaults) -> Result<Stock, StockError> {
     let bytes = table::read_bytes(path, SCHEMA.kind)?;
