@@ -153,7 +153,10 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
         .iter()
         .map(|(st, n, sp)| {
             let mut s = SheetStage::new(st, n, 1);
-            s.load_line = s.load_line.with_cloud(&sp.monte_carlo.cloud);
+            s.load_line = s
+                .load_line
+                .with_cloud(&sp.monte_carlo.cloud, sp.monte_carlo.runs);
+            s.notes.push(biasfit::report::spread::yield_line(&sp.monte_carlo));
             s
         })
         .collect();

@@ -33,6 +33,9 @@ pub struct SheetStage {
     pub load_line: LoadLine,
     /// The slots kept as given: already fitted, so drawn and listed but not pulled from a drawer.
     pub kept: Vec<Slot>,
+    /// Figures about the whole stage shown under its heading, where a reader looks first (the Monte Carlo
+    /// yield of a spread).
+    pub notes: Vec<String>,
 }
 
 impl SheetStage {
@@ -45,6 +48,7 @@ impl SheetStage {
             schematic: Schematic::of(stage, networks),
             load_line: LoadLine::of(stage, &networks.values()),
             kept: Vec::new(),
+            notes: Vec::new(),
         }
     }
 
@@ -215,6 +219,9 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
             String::new()
         }
     );
+    for n in &s.notes {
+        let _ = writeln!(out, "<p class=\"meta headline\"><strong>{}</strong></p>", e(n));
+    }
     if r.is_pnp() {
         out.push_str(
             "<p class=\"meta\">PNP: the numbers are its NPN mirror's; every real voltage and current has the \
