@@ -291,14 +291,27 @@ fn kept_slots_are_marked_as_already_fitted() {
     let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("kept-slots");
     std::fs::create_dir_all(&dir).unwrap();
     let html = dir.join("sheet.html");
-    let args = ["design", "examples/line-driver.toml", "--stock", "stock/hobby-drawer.csv", "--keep", "RC=2k7"];
+    let args = [
+        "design",
+        "examples/line-driver.toml",
+        "--stock",
+        "stock/hobby-drawer.csv",
+        "--keep",
+        "RC=2k7",
+    ];
     let mut with_html = args.to_vec();
     with_html.extend(["--html", html.to_str().unwrap()]);
     let out = biasfit(&with_html);
     assert!(out.status.success(), "{}", stderr(&out));
     let text = stdout(&out);
-    assert!(text.contains("RC    2k7               already fitted (kept): 2k7 5 % 250 mW"), "{text}");
-    assert!(text.contains("already fitted (kept, not pulled): RC = 2k7"), "{text}");
+    assert!(
+        text.contains("RC    2k7               already fitted (kept): 2k7 5 % 250 mW"),
+        "{text}"
+    );
+    assert!(
+        text.contains("already fitted (kept, not pulled): RC = 2k7"),
+        "{text}"
+    );
     // The chosen slots are not marked.
     assert_eq!(text.matches("already fitted").count(), 2, "{text}");
     let sheet = std::fs::read_to_string(&html).unwrap();
@@ -312,8 +325,17 @@ fn kept_slots_are_marked_as_already_fitted() {
     assert_eq!(v["kept"][0]["slot"], "RC");
     assert_eq!(v["kept"][0]["network"], "2k7");
     // Without --keep nothing is marked.
-    let plain: serde_json::Value =
-        serde_json::from_slice(&biasfit(&["design", "examples/line-driver.toml", "--stock", "stock/hobby-drawer.csv", "--json"]).stdout).unwrap();
+    let plain: serde_json::Value = serde_json::from_slice(
+        &biasfit(&[
+            "design",
+            "examples/line-driver.toml",
+            "--stock",
+            "stock/hobby-drawer.csv",
+            "--json",
+        ])
+        .stdout,
+    )
+    .unwrap();
     assert_eq!(plain["kept"], serde_json::json!([]));
     assert_eq!(plain["stages"][0]["slots"]["RC"]["kept"], false);
 }

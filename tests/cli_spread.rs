@@ -266,8 +266,17 @@ fn drawings_have_count_axes_the_yield_up_front_and_say_when_they_sample() {
     let html = dir.join("sheet.html");
     let svg = dir.join("svg");
     let out = biasfit(&[
-        "spread", "examples/line-driver.toml", "--use", "R1=39k,R2=7k5,RC=2k7,RE=560+39", "--runs", "20000",
-        "--svg", svg.to_str().unwrap(), "--html", html.to_str().unwrap(), "--json",
+        "spread",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+        "--runs",
+        "20000",
+        "--svg",
+        svg.to_str().unwrap(),
+        "--html",
+        html.to_str().unwrap(),
+        "--json",
     ]);
     assert!(out.status.success(), "{}", stderr(&out));
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -282,7 +291,12 @@ fn drawings_have_count_axes_the_yield_up_front_and_say_when_they_sample() {
         .and_then(|n| n.text())
         .expect("a row heading");
     let shown = format!("{} %", biasfit::notation::trim_number(100.0 * yield_10, 3));
-    assert!(heading.contains(&format!("IC and VCE both within ±10 % of target in {shown} of 20\u{2009}000 builds")), "{heading}");
+    assert!(
+        heading.contains(&format!(
+            "IC and VCE both within ±10 % of target in {shown} of 20\u{2009}000 builds"
+        )),
+        "{heading}"
+    );
     // Neither chart title carries it any more.
     assert!(!hist.contains("VCE; both within"), "{hist}");
     // Each chart has a count axis labelled "builds" whose top is above its tallest bar.
@@ -300,19 +314,36 @@ fn drawings_have_count_axes_the_yield_up_front_and_say_when_they_sample() {
         .collect();
     let tallest = *bars.iter().max().unwrap();
     let top = *counts.iter().max().unwrap();
-    assert!(top as f64 >= 1.1 * tallest as f64, "headroom: top {top}, tallest bar {tallest}");
+    assert!(
+        top as f64 >= 1.1 * tallest as f64,
+        "headroom: top {top}, tallest bar {tallest}"
+    );
     // The load line plots 2 000 of the 20 000 builds and says so.
     let line = std::fs::read_to_string(svg.join("line-driver-load-line.svg")).unwrap();
-    assert!(line.contains("a sample of 2\u{2009}000 of 20\u{2009}000 simulated builds"), "{line}");
+    assert!(
+        line.contains("a sample of 2\u{2009}000 of 20\u{2009}000 simulated builds"),
+        "{line}"
+    );
     let sheet = std::fs::read_to_string(&html).unwrap();
     assert!(sheet.contains("a sample of 2\u{2009}000 of 20\u{2009}000 simulated builds"));
-    assert!(sheet.contains(&format!("IC and VCE both within ±10 % of target in {shown}")));
+    assert!(sheet.contains(&format!(
+        "IC and VCE both within ±10 % of target in {shown}"
+    )));
     // A run small enough to plot whole is not called a sample.
     let out = biasfit(&[
-        "spread", "examples/line-driver.toml", "--use", "R1=39k,R2=7k5,RC=2k7,RE=560+39", "--runs", "500",
-        "--svg", svg.to_str().unwrap(),
+        "spread",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+        "--runs",
+        "500",
+        "--svg",
+        svg.to_str().unwrap(),
     ]);
     assert!(out.status.success(), "{}", stderr(&out));
     let line = std::fs::read_to_string(svg.join("line-driver-load-line.svg")).unwrap();
-    assert!(line.contains("Monte Carlo: 500 simulated builds") && !line.contains("sample"), "{line}");
+    assert!(
+        line.contains("Monte Carlo: 500 simulated builds") && !line.contains("sample"),
+        "{line}"
+    );
 }

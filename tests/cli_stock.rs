@@ -51,7 +51,12 @@ fn quirky_but_valid_files_load() {
     // Issue 17: said once, by the summary, not as a warning by every command that reads the file.
     let out = biasfit(&["stock", "tests/fixtures/stock/semicolon.csv"]);
     assert!(stdout(&out).contains("columns read (semicolon-separated): value, qty, location"));
-    let out = biasfit(&["fix", "4k7", "--stock", "tests/fixtures/stock/semicolon.csv"]);
+    let out = biasfit(&[
+        "fix",
+        "4k7",
+        "--stock",
+        "tests/fixtures/stock/semicolon.csv",
+    ]);
     assert!(out.status.success(), "{}", stderr(&out));
     assert!(!stderr(&out).contains("separated"), "{}", stderr(&out));
     let out = biasfit(&["stock", "tests/fixtures/stock/bom-crlf.csv", "--json"]);
@@ -149,10 +154,15 @@ fn a_spreadsheet_export_reads_with_its_own_header_words() {
         .map(|m| m["value"].as_f64().unwrap())
         .collect();
     assert_eq!(tols, [0.01, 0.05]);
-    assert_eq!(v["range"][0], 330.0, "a bare 330 under 'Value (Ω)' is 330 Ω");
+    assert_eq!(
+        v["range"][0], 330.0,
+        "a bare 330 under 'Value (Ω)' is 330 Ω"
+    );
     let err = stderr(&out);
     assert!(
-        err.contains(&format!("warning: {file}:3: biasfit does not read the column(s) 'Colour'")),
+        err.contains(&format!(
+            "warning: {file}:3: biasfit does not read the column(s) 'Colour'"
+        )),
         "{err}"
     );
     assert!(
@@ -160,7 +170,10 @@ fn a_spreadsheet_export_reads_with_its_own_header_words() {
         "{err}"
     );
     assert!(err.contains("give --default-power"), "{err}");
-    assert!(!err.contains("separated"), "the delimiter is no warning: {err}");
+    assert!(
+        !err.contains("separated"),
+        "the delimiter is no warning: {err}"
+    );
     let text = stdout(&biasfit(&["stock", file]));
     assert!(
         text.contains("columns read (semicolon-separated): value ← \"Value (Ω)\", qty ← \"On hand\", tolerance ← \"Tol (%)\", power ← \"Wattage\", location ← \"Drawer\""),

@@ -48,7 +48,9 @@ fn stderr(o: &Output) -> String {
 fn refusal(o: &Output) -> String {
     stderr(o)
         .lines()
-        .filter(|l| !(l.starts_with("warning: ") && l.contains("does not read the column(s) 'colour'")))
+        .filter(|l| {
+            !(l.starts_with("warning: ") && l.contains("does not read the column(s) 'colour'"))
+        })
         .map(|l| format!("{l}\n"))
         .collect()
 }
@@ -452,17 +454,37 @@ fn too_few_for_the_boards_says_what_is_short() {
 fn the_old_name_take_still_works_with_a_note() {
     let (_dir, stock) = scratch("old-name", false);
     let result = fixture("design-one.json");
-    let o = run(&["stock", "take", s(&stock), "--result", s(&result), "--dry-run"]);
+    let o = run(&[
+        "stock",
+        "take",
+        s(&stock),
+        "--result",
+        s(&result),
+        "--dry-run",
+    ]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     let notes: Vec<String> = refusal(&o).lines().map(String::from).collect();
     assert_eq!(
         notes,
         ["note: `biasfit stock take` is now `biasfit stock withdraw` (it removes parts; it does not count them); the old name still works for now"]
     );
-    let new = run(&["stock", "withdraw", s(&stock), "--result", s(&result), "--dry-run"]);
-    assert_eq!(String::from_utf8_lossy(&new.stdout), String::from_utf8_lossy(&o.stdout));
+    let new = run(&[
+        "stock",
+        "withdraw",
+        s(&stock),
+        "--result",
+        s(&result),
+        "--dry-run",
+    ]);
+    assert_eq!(
+        String::from_utf8_lossy(&new.stdout),
+        String::from_utf8_lossy(&o.stdout)
+    );
     assert!(refusal(&new).is_empty(), "{}", stderr(&new));
     let help = run(&["stock", "--help"]);
     let help = String::from_utf8_lossy(&help.stdout);
-    assert!(help.contains("withdraw") && !help.contains("  take "), "{help}");
+    assert!(
+        help.contains("withdraw") && !help.contains("  take "),
+        "{help}"
+    );
 }

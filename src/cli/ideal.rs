@@ -136,7 +136,13 @@ pub fn run(args: IdealArgs, out: &mut Out) -> Result<(), Failure> {
         // What no choice of parts can fix is said under the checks it concerns (issue 17).
         let notes: Vec<String> = design_notes(&design, &picked_stages);
         if !notes.is_empty() {
-            out.text(&format!("\n{}", notes.iter().map(|n| format!("note: {n}\n")).collect::<String>()))?;
+            out.text(&format!(
+                "\n{}",
+                notes
+                    .iter()
+                    .map(|n| format!("note: {n}\n"))
+                    .collect::<String>()
+            ))?;
         }
     }
     if report.all_ok() {

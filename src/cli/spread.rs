@@ -156,7 +156,8 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
             s.load_line = s
                 .load_line
                 .with_cloud(&sp.monte_carlo.cloud, sp.monte_carlo.runs);
-            s.notes.push(biasfit::report::spread::yield_line(&sp.monte_carlo));
+            s.notes
+                .push(biasfit::report::spread::yield_line(&sp.monte_carlo));
             s
         })
         .collect();

@@ -615,7 +615,11 @@ fn design_once(
             evaluations,
         },
         notes: narrowed,
-        kept: request.keep.iter().map(|(s, slot, _)| (*s, *slot)).collect(),
+        kept: request
+            .keep
+            .iter()
+            .map(|(s, slot, _)| (*s, *slot))
+            .collect(),
     })
 }
 
@@ -724,7 +728,11 @@ fn infeasible(
             let unfixable: Vec<(Check, &str)> = stage
                 .ideal_failures()
                 .into_iter()
-                .filter(|(c, _)| failing.iter().any(|f| f.starts_with(&format!("{} ", c.name))))
+                .filter(|(c, _)| {
+                    failing
+                        .iter()
+                        .any(|f| f.starts_with(&format!("{} ", c.name)))
+                })
                 .collect();
             let next = match unfixable.first() {
                 Some((_, fix)) => format!(

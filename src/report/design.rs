@@ -203,13 +203,16 @@ impl DesignReport {
                 .iter()
                 .filter(|b| b.copies > 0)
                 .flat_map(|b| {
-                    outcome.kept_in(b.stage).into_iter().filter_map(move |slot| {
-                        b.networks.get(slot).map(|n| KeptSlot {
-                            stage: design.stages[b.stage].name.clone(),
-                            slot: slot.to_string(),
-                            network: n.notation(),
+                    outcome
+                        .kept_in(b.stage)
+                        .into_iter()
+                        .filter_map(move |slot| {
+                            b.networks.get(slot).map(|n| KeptSlot {
+                                stage: design.stages[b.stage].name.clone(),
+                                slot: slot.to_string(),
+                                network: n.notation(),
+                            })
                         })
-                    })
                 })
                 .fold(Vec::new(), |mut v: Vec<KeptSlot>, k| {
                     if !v.contains(&k) {

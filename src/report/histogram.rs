@@ -111,12 +111,18 @@ fn esc(s: &str) -> String {
 /// A whole number with thin-space thousands groups, as the SI brochure writes them: "20 000".
 pub fn grouped(n: u64) -> String {
     let digits = n.to_string();
-    let mut out = String::new();
-    for (i, c) in digits.chars().enumerate() {
-        if i > 0 && (digits.len() - i) % 3 == 0 {
-            out.push('\u{2009}');
-        }
-        out.push(c);
+    // The first group takes what is left over from whole groups of three (README: Rust 1.80, so no
+    // is_multiple_of).
+    let first = match digits.len() % 3 {
+        0 => 3,
+        r => r,
+    };
+    let mut out = digits[..first.min(digits.len())].to_string();
+    let mut at = first;
+    while at < digits.len() {
+        out.push('\u{2009}');
+        out.push_str(&digits[at..at + 3]);
+        at += 3;
     }
     out
 }
@@ -176,7 +182,7 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
             plot_h
         );
     }
-    let top = count_axis_top(h.counts.iter().copied().max().unwrap_or(0) as u64);
+    let top = count_axis_top(h.counts.iter().copied().max().unwrap_or(0));
     // The count axis: 0, half and the top, with light grid lines, and what it counts.
     for tick in [0, top / 2, top] {
         let ty = base - tick as f64 / top as f64 * plot_h;
@@ -252,7 +258,7 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
         r##"<text x="{:.1}" y="{:.1}" fill="#555">shaded: within ±10 % and ±5 % of target; {} builds</text></g>"##,
         x + LEFT,
         base + 31.0,
-        grouped(h.total() as u64)
+        grouped(h.total())
     );
     s
 }
@@ -381,12 +387,26 @@ mod tests {
         // A count axis with its ticks: the tallest bar (2) under a top of 5 (10 % headroom, round).
         assert!(s.contains(">builds</text>"));
         assert_eq!(s.matches("class=\"count\"").count(), 3);
-        assert!(s.contains(">5</text>") && s.contains(">2</text>") && s.contains(">0</text>"), "{s}");
+        assert!(
+            s.contains(">5</text>") && s.contains(">2</text>") && s.contains(">0</text>"),
+            "{s}"
+        );
     }
 
     #[test]
     fn count_axes_leave_headroom_on_round_numbers() {
-        for (peak, top) in [(0, 1), (1, 2), (2, 5), (9, 10), (10, 20), (45, 50), (46, 100), (180, 200), (2200, 2500), (2300, 5000)] {
+        for (peak, top) in [
+            (0, 1),
+            (1, 2),
+            (2, 5),
+            (9, 10),
+            (10, 20),
+            (45, 50),
+            (46, 100),
+            (180, 200),
+            (2200, 2500),
+            (2300, 5000),
+        ] {
             assert_eq!(count_axis_top(peak), top, "{peak}");
             assert!(top as f64 >= peak as f64 * 1.1);
         }

@@ -220,7 +220,11 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
         }
     );
     for n in &s.notes {
-        let _ = writeln!(out, "<p class=\"meta headline\"><strong>{}</strong></p>", e(n));
+        let _ = writeln!(
+            out,
+            "<p class=\"meta headline\"><strong>{}</strong></p>",
+            e(n)
+        );
     }
     if r.is_pnp() {
         out.push_str(
@@ -257,7 +261,8 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
                     m.tolerance,
                     engineering(m.power.0, "W"),
                     match m.location.as_deref() {
-                        Some(crate::stock::TO_BUY) => " <span class=\"where\">(to buy)</span>".to_string(),
+                        Some(crate::stock::TO_BUY) =>
+                            " <span class=\"where\">(to buy)</span>".to_string(),
                         Some(l) => format!(" <span class=\"where\">· {}</span>", e(l)),
                         None => String::new(),
                     }
@@ -266,7 +271,9 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
             .collect();
         let (lo, hi) = net.band();
         let parts = if s.kept.contains(slot) {
-            format!("<li class=\"kept\"><strong>already fitted</strong> (kept as given)</li>{parts}")
+            format!(
+                "<li class=\"kept\"><strong>already fitted</strong> (kept as given)</li>{parts}"
+            )
         } else {
             parts
         };

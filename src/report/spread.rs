@@ -355,7 +355,11 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
                         unit: "A",
                         target: t.ic,
                     },
-                    format!("{}: IC of {} builds", s.stage.name, histogram::grouped(mc.runs as u64)),
+                    format!(
+                        "{}: IC of {} builds",
+                        s.stage.name,
+                        histogram::grouped(mc.runs as u64)
+                    ),
                 ),
                 (
                     &mc.vce_histogram,
@@ -364,7 +368,11 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
                         unit: "V",
                         target: t.vce,
                     },
-                    format!("{}: VCE of {} builds", s.stage.name, histogram::grouped(mc.runs as u64)),
+                    format!(
+                        "{}: VCE of {} builds",
+                        s.stage.name,
+                        histogram::grouped(mc.runs as u64)
+                    ),
                 ),
             ]
         })
@@ -373,9 +381,7 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
     let headings: Vec<String> = r
         .stages
         .iter()
-        .map(|s| {
-            format!("{}: {}", s.stage.name, yield_line(&s.spread.monte_carlo))
-        })
+        .map(|s| format!("{}: {}", s.stage.name, yield_line(&s.spread.monte_carlo)))
         .collect();
     histogram::render_svg_headed(&charts, 2, &headings)
 }

@@ -123,14 +123,7 @@ pub const SCHEMA: Schema = Schema {
         Column {
             name: "qty",
             aliases: &[
-                "qty",
-                "quantity",
-                "pcs",
-                "pieces",
-                "count",
-                "on hand",
-                "in stock",
-                "stock",
+                "qty", "quantity", "pcs", "pieces", "count", "on hand", "in stock", "stock",
             ],
             required: true,
         },
@@ -420,24 +413,39 @@ mod tests {
         assert_eq!(s.parts[0].qty, 10);
         assert_eq!(s.parts[0].tolerance, Tolerance(0.05));
         assert!((s.parts[0].power.0 - 0.125).abs() < 1e-15);
-        assert!((s.parts[1].power.0 - 0.6).abs() < 1e-15, "a field's own unit wins");
+        assert!(
+            (s.parts[1].power.0 - 0.6).abs() < 1e-15,
+            "a field's own unit wins"
+        );
         assert_eq!(s.parts[0].location().as_deref(), Some("A1"));
         assert!(s.warnings.is_empty(), "{:?}", s.warnings);
         let s = load_str("Resistance [kΩ],pcs,Wattage\n4.7,1,1/8\n").unwrap();
         assert_eq!(s.parts[0].ohms, Ohms(4700.0));
         assert_eq!(s.parts[0].power, Watts(0.125));
-        let err = load_str("value,qty,Power (kW)\n1k,1,1\n").unwrap_err().to_string();
-        assert!(err.contains("cannot apply to the power column; expected W or mW"), "{err}");
+        let err = load_str("value,qty,Power (kW)\n1k,1,1\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("cannot apply to the power column; expected W or mW"),
+            "{err}"
+        );
     }
 
     #[test]
     fn an_unread_column_is_named_beside_a_defaulted_rating() {
         let s = load_str("value,qty,Leistung\n1k,1,1/8W\n").unwrap();
         assert_eq!(s.defaulted, (1, 1));
-        let power = s.warnings.iter().find(|w| w.contains("no power rating")).unwrap();
+        let power = s
+            .warnings
+            .iter()
+            .find(|w| w.contains("no power rating"))
+            .unwrap();
         assert!(power.contains("may be wrong"), "{power}");
         assert!(power.contains("'Leistung'"), "{power}");
-        assert!(!power.contains("--"), "no flag in a library message: {power}");
+        assert!(
+            !power.contains("--"),
+            "no flag in a library message: {power}"
+        );
     }
 
     #[test]

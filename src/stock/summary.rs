@@ -171,11 +171,7 @@ impl Summary {
             })
             .collect::<Vec<_>>()
             .join(", ");
-        let _ = writeln!(
-            out,
-            "  columns read ({}-separated): {read}",
-            self.delimiter
-        );
+        let _ = writeln!(out, "  columns read ({}-separated): {read}", self.delimiter);
         let _ = writeln!(out, "\n  decade         values  pieces");
         for d in &self.decades {
             let label = format!("{} – {}", code(Ohms(d.from)), code(Ohms(d.from * 10.0)));

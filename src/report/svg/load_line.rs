@@ -535,7 +535,10 @@ mod tests {
         );
         let text: String = doc.descendants().filter_map(|n| n.text()).collect();
         assert!(text.contains("cutoff end: 15 V"), "{text}");
-        assert!(text.contains("a sample of 50 of 500 simulated builds"), "{text}");
+        assert!(
+            text.contains("a sample of 50 of 500 simulated builds"),
+            "{text}"
+        );
         for label in ["min", "typical", "max"] {
             assert!(text.contains(&format!("Q at {label} beta")), "{label}");
         }
