@@ -132,7 +132,9 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     let nets = networks(s, &args.slots, tol, watts)?;
     let report = Report::new(vec![StageReport::new(s, &nets)]);
     if args.drawings.wanted() {
-        let sheet = [SheetStage::new(s, &nets, 1)];
+        let mut stage_sheet = SheetStage::new(s, &nets, 1);
+        stage_sheet.notes = s.ideal_failure_notes();
+        let sheet = [stage_sheet];
         let title = format!("{} ({})", s.name, design.file);
         for f in args
             .drawings

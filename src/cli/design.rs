@@ -168,7 +168,11 @@ pub fn sheet(
                 .filter(|(s, _)| *s == b.stage)
                 .map(|&(_, slot)| slot)
                 .collect();
-            SheetStage::new(&design.stages[b.stage], &b.networks, b.copies).with_kept(&kept)
+            let mut s =
+                SheetStage::new(&design.stages[b.stage], &b.networks, b.copies).with_kept(&kept);
+            // What no part can fix is said on the sheet too, under the stage's heading.
+            s.notes = design.stages[b.stage].ideal_failure_notes();
+            s
         })
         .collect()
 }
