@@ -364,9 +364,19 @@ fn a_check_the_ideal_fails_is_not_sent_to_order() {
     let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("ideal-fails");
     std::fs::create_dir_all(&dir).unwrap();
     let html = dir.join("sheet.html");
-    let out = biasfit(&["check", file, "--use", "RC=3k3,RE=750R,RB=510k", "--html", html.to_str().unwrap()]);
+    let out = biasfit(&[
+        "check",
+        file,
+        "--use",
+        "RC=3k3,RE=750R,RB=510k",
+        "--html",
+        html.to_str().unwrap(),
+    ]);
     assert_eq!(out.status.code(), Some(1));
-    assert!(std::fs::read_to_string(&html).unwrap().contains(said), "the build sheet says it too");
+    assert!(
+        std::fs::read_to_string(&html).unwrap().contains(said),
+        "the build sheet says it too"
+    );
     assert!(
         stderr(&out).contains(&format!("warning: stage \"nine volt\": {said}")),
         "{}",
