@@ -357,10 +357,13 @@ impl StageReport {
                 max_beta: OpReport::from(&stage.solve(&values, b.max, ambient)),
             },
             slots,
-            // The error comes first: a stage far from its target is not passing, whatever else holds
-            // (issue 17: a green "all checks pass" stood beside an error of 30 %).
-            checks: std::iter::once(crate::stage::on_target(d.max_abs()))
-                .chain(stage.checks(nets))
+            // A stage far from its target is not passing, whatever else holds (issue 17: a green "all
+            // checks pass" stood beside an error of 30 %). Appended, so the checks the JSON already listed
+            // keep their places.
+            checks: stage
+                .checks(nets)
+                .into_iter()
+                .chain(std::iter::once(crate::stage::on_target(d.max_abs())))
                 .map(CheckReport::from)
                 .collect(),
             ac: stage.ac(&values).map(AcReport::from),
