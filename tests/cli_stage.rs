@@ -422,7 +422,7 @@ fn the_baseline_names_the_constraint_it_fails() {
     let text = stdout(&out);
     // R1=36k, R2=7k5 at min beta 80: the divider carries 9.2 × IB, short of the rule's 10.
     assert!(
-        text.contains("rounded by hand (R1=36k,R2=7k5,RC=2k7,RE=560R): error 19.5 %, fails stiffness 9.2 (needs ≥ 10)"),
+        text.contains("rounded by hand (R1=36k,R2=7k5,RC=2k7,RE=560R): error 19.5 %, fails stiffness 9.2 × IB (needs ≥ 10 × IB)"),
         "{text}"
     );
     assert!(!text.contains("fails a hard constraint"), "{text}");
@@ -435,7 +435,7 @@ fn the_baseline_names_the_constraint_it_fails() {
     ]));
     assert_eq!(
         v["baseline"]["stages"][0]["fails"][0],
-        "stiffness 9.2 (needs ≥ 10)"
+        "stiffness 9.2 × IB (needs ≥ 10 × IB)"
     );
 }
 

@@ -149,7 +149,7 @@ pub struct Baseline {
     pub in_stock: bool,
     /// Whether it meets the hard constraints.
     pub feasible: bool,
-    /// The hard constraints it fails, in words ("stiffness 7.2 (needs ≥ 10)"); empty when feasible.
+    /// The hard constraints it fails, in words ("stiffness 7.2 × IB (needs ≥ 10 × IB)"); empty when feasible.
     pub fails: Vec<String>,
 }
 
@@ -335,7 +335,7 @@ fn is_hard(c: &Check) -> bool {
         || c.name.starts_with("headroom")
 }
 
-/// A failed check in words: "stiffness 7.2 (needs ≥ 10)".
+/// A failed check in words: "stiffness 7.2 × IB (needs ≥ 10 × IB)".
 fn describe(c: &Check) -> String {
     c.describe()
 }
