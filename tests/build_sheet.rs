@@ -315,3 +315,59 @@ fn the_circuit_build_sheet_loads_cleanly_and_renders() {
     assert!(inked_share(&shot) > 0.01, "the screenshot looks blank");
     let _ = std::fs::remove_dir_all(&dir);
 }
+
+/// Issue 17, item 4: a slot kept as given (`--keep`) is marked as already fitted in every report: the text
+/// slot table and pick list, the JSON, and the HTML build sheet's build table and pick list.
+#[test]
+fn kept_slots_are_marked_as_already_fitted() {
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("kept-slots");
+    std::fs::create_dir_all(&dir).unwrap();
+    let html = dir.join("sheet.html");
+    let args = [
+        "design",
+        "examples/line-driver.toml",
+        "--stock",
+        "stock/hobby-drawer.csv",
+        "--keep",
+        "RC=2k7",
+    ];
+    let mut with_html = args.to_vec();
+    with_html.extend(["--html", html.to_str().unwrap()]);
+    let out = biasfit(&with_html);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let text = stdout(&out);
+    assert!(
+        text.contains("RC    2k7               already fitted (kept): 2k7 5 % 250 mW"),
+        "{text}"
+    );
+    assert!(
+        text.contains("already fitted (kept, not pulled): RC = 2k7"),
+        "{text}"
+    );
+    // The chosen slots are not marked.
+    assert_eq!(text.matches("already fitted").count(), 2, "{text}");
+    let sheet = std::fs::read_to_string(&html).unwrap();
+    assert!(sheet.contains("<strong>already fitted</strong> (kept as given)"));
+    assert!(sheet.contains("Already fitted (kept as given, not pulled): RC = 2k7"));
+    let mut with_json = args.to_vec();
+    with_json.push("--json");
+    let v: serde_json::Value = serde_json::from_slice(&biasfit(&with_json).stdout).unwrap();
+    assert_eq!(v["stages"][0]["slots"]["RC"]["kept"], true);
+    assert_eq!(v["stages"][0]["slots"]["R1"]["kept"], false);
+    assert_eq!(v["kept"][0]["slot"], "RC");
+    assert_eq!(v["kept"][0]["network"], "2k7");
+    // Without --keep nothing is marked.
+    let plain: serde_json::Value = serde_json::from_slice(
+        &biasfit(&[
+            "design",
+            "examples/line-driver.toml",
+            "--stock",
+            "stock/hobby-drawer.csv",
+            "--json",
+        ])
+        .stdout,
+    )
+    .unwrap();
+    assert_eq!(plain["kept"], serde_json::json!([]));
+    assert_eq!(plain["stages"][0]["slots"]["RC"]["kept"], false);
+}

@@ -130,7 +130,7 @@ fn writes_the_histograms_and_the_load_line_with_its_cloud() {
         .strip_prefix("<!-- written by biasfit -->\n")
         .expect("the mark");
     assert!(svg.starts_with("<svg") && svg.trim_end().ends_with("</svg>"));
-    assert!(svg.contains("line driver: IC of 1000 builds"));
+    assert!(svg.contains("line driver: IC of 1\u{2009}000 builds"));
     let load_line = std::fs::read_to_string(dir.join("line-driver-load-line.svg")).unwrap();
     // The cloud: one mark per drawn build, far more marks than a plain load line has.
     let plain = biasfit(&[
@@ -257,5 +257,97 @@ fn readme_shows_real_output() {
         readme.contains(&block),
         "README's output of biasfit {} is stale; it is now:\n{out}",
         args.join(" ")
+    );
+}
+
+/// Issue 17, item 6: the histograms have a count axis with headroom above the tallest bar, the combined
+/// yield heads each row (and each stage of the build sheet) rather than sitting in one chart's title, and a
+/// plotted sample of a larger run says it is a sample.
+#[test]
+fn drawings_have_count_axes_the_yield_up_front_and_say_when_they_sample() {
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("spread-drawings-17");
+    let _ = std::fs::remove_dir_all(&dir);
+    let html = dir.join("sheet.html");
+    let svg = dir.join("svg");
+    let out = biasfit(&[
+        "spread",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+        "--runs",
+        "20000",
+        "--svg",
+        svg.to_str().unwrap(),
+        "--html",
+        html.to_str().unwrap(),
+        "--json",
+    ]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    let mc = &v["stages"][0]["monte_carlo"];
+    let yield_10 = mc["yield_10"].as_f64().unwrap();
+    let hist = std::fs::read_to_string(svg.join("histograms.svg")).unwrap();
+    let doc = roxmltree::Document::parse(&hist).expect("well-formed SVG");
+    // The heading of the row carries the combined yield, as the JSON has it.
+    let heading = doc
+        .descendants()
+        .find(|n| n.attribute("class") == Some("heading"))
+        .and_then(|n| n.text())
+        .expect("a row heading");
+    let shown = format!("{} %", biasfit::notation::trim_number(100.0 * yield_10, 3));
+    assert!(
+        heading.contains(&format!(
+            "IC and VCE both within ±10 % of target in {shown} of 20\u{2009}000 builds"
+        )),
+        "{heading}"
+    );
+    // Neither chart title carries it any more.
+    assert!(!hist.contains("VCE; both within"), "{hist}");
+    // Each chart has a count axis labelled "builds" whose top is above its tallest bar.
+    assert_eq!(hist.matches(">builds</text>").count(), 2);
+    let counts: Vec<u64> = doc
+        .descendants()
+        .filter(|n| n.attribute("class") == Some("count"))
+        .map(|n| n.text().unwrap().replace('\u{2009}', "").parse().unwrap())
+        .collect();
+    assert_eq!(counts.len(), 6, "three ticks a chart");
+    let bars: Vec<u64> = doc
+        .descendants()
+        .filter(|n| n.has_tag_name("title"))
+        .filter_map(|n| n.text()?.rsplit(": ").next()?.parse().ok())
+        .collect();
+    let tallest = *bars.iter().max().unwrap();
+    let top = *counts.iter().max().unwrap();
+    assert!(
+        top as f64 >= 1.1 * tallest as f64,
+        "headroom: top {top}, tallest bar {tallest}"
+    );
+    // The load line plots 2 000 of the 20 000 builds and says so.
+    let line = std::fs::read_to_string(svg.join("line-driver-load-line.svg")).unwrap();
+    assert!(
+        line.contains("a sample of 2\u{2009}000 of 20\u{2009}000 simulated builds"),
+        "{line}"
+    );
+    let sheet = std::fs::read_to_string(&html).unwrap();
+    assert!(sheet.contains("a sample of 2\u{2009}000 of 20\u{2009}000 simulated builds"));
+    assert!(sheet.contains(&format!(
+        "IC and VCE both within ±10 % of target in {shown}"
+    )));
+    // A run small enough to plot whole is not called a sample.
+    let out = biasfit(&[
+        "spread",
+        "examples/line-driver.toml",
+        "--use",
+        "R1=39k,R2=7k5,RC=2k7,RE=560+39",
+        "--runs",
+        "500",
+        "--svg",
+        svg.to_str().unwrap(),
+    ]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let line = std::fs::read_to_string(svg.join("line-driver-load-line.svg")).unwrap();
+    assert!(
+        line.contains("Monte Carlo: 500 simulated builds") && !line.contains("sample"),
+        "{line}"
     );
 }

@@ -36,16 +36,29 @@ fn hobby_drawer_summary_snapshot() {
         "tests/snapshots/stock-hobby-drawer.txt".as_ref(),
         &stdout(&out),
     );
+    assert!(
+        user_docs().contains(&stdout(&out)),
+        "docs/commands.md shows this summary as the binary prints it"
+    );
 }
 
 #[test]
 fn quirky_but_valid_files_load() {
     let out = biasfit(&["stock", "tests/fixtures/stock/semicolon.csv", "--json"]);
     assert!(out.status.success(), "{}", stderr(&out));
-    assert!(
-        stderr(&out).contains("semicolon"),
-        "the chosen delimiter is said"
-    );
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["delimiter"], "semicolon", "the chosen delimiter is said");
+    // Issue 17: said once, by the summary, not as a warning by every command that reads the file.
+    let out = biasfit(&["stock", "tests/fixtures/stock/semicolon.csv"]);
+    assert!(stdout(&out).contains("columns read (semicolon-separated): value, qty, location"));
+    let out = biasfit(&[
+        "fix",
+        "4k7",
+        "--stock",
+        "tests/fixtures/stock/semicolon.csv",
+    ]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    assert!(!stderr(&out).contains("separated"), "{}", stderr(&out));
     let out = biasfit(&["stock", "tests/fixtures/stock/bom-crlf.csv", "--json"]);
     assert!(out.status.success(), "{}", stderr(&out));
     let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
@@ -131,5 +144,89 @@ fn control_characters_from_a_file_are_shown_not_obeyed() {
             "\\u{1b}]0;owned\\u{7}"
         };
         assert!(text.contains(shown), "{text}");
+    }
+}
+
+/// Issue 17: a drawer exported from a spreadsheet (semicolons, its own column order and header words, units
+/// in brackets, rows of bare delimiters, a column biasfit does not read, a row with no rating).
+#[test]
+fn a_spreadsheet_export_reads_with_its_own_header_words() {
+    let file = "tests/fixtures/stock/spreadsheet-export.csv";
+    let out = biasfit(&["stock", file, "--json"]);
+    assert!(out.status.success(), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    // 9 data rows (the two `;;;;;` rows skipped like blank lines), 8 values with pieces, 7k5 with none.
+    assert_eq!(v["parts"], 9);
+    assert_eq!(v["distinct"], 8);
+    assert_eq!(v["pieces"], 4 + 2 + 3 + 5 + 3 + 3 + 5 + 2);
+    // "Wattage" is the power column: the 1/8 W parts are 125 mW parts, not the 250 mW default; only the
+    // 2k2 row, with its rating blank, gets the default.
+    let powers: Vec<(f64, u64)> = v["powers"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| (m["value"].as_f64().unwrap(), m["pieces"].as_u64().unwrap()))
+        .collect();
+    assert_eq!(powers, [(0.125, 22), (0.25, 5)]);
+    // "Tol (%)": a bare 1 under it is 1 %, not refused and not 100 %.
+    let tols: Vec<f64> = v["tolerances"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .map(|m| m["value"].as_f64().unwrap())
+        .collect();
+    assert_eq!(tols, [0.01, 0.05]);
+    assert_eq!(
+        v["range"][0], 330.0,
+        "a bare 330 under 'Value (Ω)' is 330 Ω"
+    );
+    let err = stderr(&out);
+    assert!(
+        err.contains(&format!(
+            "warning: {file}:3: biasfit does not read the column(s) 'Colour'"
+        )),
+        "{err}"
+    );
+    assert!(
+        err.contains("1 row(s) give no power rating; assuming 250 mW; this may be wrong: if the unread column 'Colour' holds the power"),
+        "{err}"
+    );
+    assert!(err.contains("give --default-power"), "{err}");
+    assert!(
+        !err.contains("separated"),
+        "the delimiter is no warning: {err}"
+    );
+    let text = stdout(&biasfit(&["stock", file]));
+    assert!(
+        text.contains("columns read (semicolon-separated): value ← \"Value (Ω)\", qty ← \"On hand\", tolerance ← \"Tol (%)\", power ← \"Wattage\", location ← \"Drawer\""),
+        "{text}"
+    );
+}
+
+/// Issue 17: the header words the stock format page lists are the ones the binary accepts.
+#[test]
+fn the_documented_header_words_are_read() {
+    let docs = user_docs();
+    let dir = std::path::Path::new(env!("CARGO_TARGET_TMPDIR")).join("header-words");
+    std::fs::create_dir_all(&dir).unwrap();
+    for (column, words) in [
+        ("qty", &["pcs", "count", "on hand", "quantity"][..]),
+        ("power", &["watts", "wattage", "rating"][..]),
+    ] {
+        for word in words {
+            assert!(docs.contains(&format!("`{word}`")), "the docs list {word}");
+            let header = if column == "qty" {
+                format!("value,{word},power")
+            } else {
+                format!("value,qty,{word}")
+            };
+            let path = dir.join(format!("{column}-{}.csv", word.replace(' ', "_")));
+            std::fs::write(&path, format!("{header}\n1k,3,1/8W\n")).unwrap();
+            let out = biasfit(&["stock", path.to_str().unwrap(), "--json"]);
+            assert!(out.status.success(), "{header}: {}", stderr(&out));
+            let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+            assert_eq!(v["pieces"], 3, "{header}");
+            assert_eq!(v["powers"][0]["value"], 0.125, "{header}");
+        }
     }
 }

@@ -84,7 +84,7 @@ fn temp_files(dir: &Path) -> Vec<PathBuf> {
 fn command(s: &Setup, take: bool) -> Command {
     let mut c = Command::new(BIN);
     if take {
-        c.args(["stock", "take"])
+        c.args(["stock", "withdraw"])
             .arg(&s.stock)
             .arg("--result")
             .arg(&s.result);

@@ -29,7 +29,7 @@ fn scratch(test: &str) -> (PathBuf, PathBuf, PathBuf) {
 
 fn take(stock: &Path, result: &Path, extra: &[&str]) -> Output {
     Command::new(BIN)
-        .args(["stock", "take"])
+        .args(["stock", "withdraw"])
         .arg(stock)
         .arg("--result")
         .arg(result)
@@ -157,7 +157,7 @@ fn a_rewritten_stock_keeps_its_mode_and_says_when_its_owner_changed() {
     }
     std::fs::set_permissions(&dir, std::fs::Permissions::from_mode(0o777)).unwrap();
     let o = Command::new(BIN)
-        .args(["stock", "take"])
+        .args(["stock", "withdraw"])
         .arg(&stock)
         .arg("--result")
         .arg(&result)

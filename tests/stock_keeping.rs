@@ -1,4 +1,4 @@
-//! `biasfit stock take` and `biasfit stock add` through the real binary, on the fixtures in
+//! `biasfit stock withdraw` (once `stock take`) and `biasfit stock add` through the real binary, on the fixtures in
 //! tests/fixtures/keep: the exact edits, the round trip, and every refusal leaving the file untouched.
 
 use std::path::{Path, PathBuf};
@@ -43,6 +43,18 @@ fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
 }
 
+/// Stderr without the one warning every run on the fixture drawer gives: its `colour` column is not read
+/// (issue 17: named, never ignored silently). Any other warning stays in.
+fn refusal(o: &Output) -> String {
+    stderr(o)
+        .lines()
+        .filter(|l| {
+            !(l.starts_with("warning: ") && l.contains("does not read the column(s) 'colour'"))
+        })
+        .map(|l| format!("{l}\n"))
+        .collect()
+}
+
 fn original(crlf: bool) -> String {
     let t = std::fs::read_to_string(fixture("drawer.csv")).unwrap();
     if crlf {
@@ -58,7 +70,7 @@ fn take_rewrites_only_the_qty_fields_and_keeps_a_backup() {
         let (_dir, stock) = scratch(&format!("take-{crlf}"), crlf);
         let o = run(&[
             "stock",
-            "take",
+            "withdraw",
             s(&stock),
             "--result",
             s(&fixture("design-one.json")),
@@ -88,7 +100,7 @@ fn take_then_add_the_same_parts_back_returns_the_file_byte_for_byte() {
         let before = std::fs::read(&stock).unwrap();
         let o = run(&[
             "stock",
-            "take",
+            "withdraw",
             s(&stock),
             "--result",
             s(&fixture("design-one.json")),
@@ -112,7 +124,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
     let (_dir, stock) = scratch("copies", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-one.json")),
@@ -130,7 +142,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
     let four = fixture("design-four.json");
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&four),
@@ -148,7 +160,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
     assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&four),
@@ -161,7 +173,7 @@ fn copies_scale_a_one_board_result_and_must_match_a_several_board_one() {
         .contains("8k2,\"7\","));
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&four),
@@ -176,7 +188,7 @@ fn take_prefers_the_pick_s_location_then_file_order() {
     let (_dir, stock) = scratch("location", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-at-a2.json")),
@@ -200,17 +212,18 @@ fn a_short_stock_is_refused_and_nothing_changes() {
     let (dir, stock) = scratch("short", false);
     let o = run(&[
         "stock",
-        "take",
+        "withdraw",
         s(&stock),
         "--result",
         s(&fixture("design-needs-150k.json")),
     ]);
     assert_eq!(o.status.code(), Some(3));
-    let err = stderr(&o);
+    assert!(stderr(&o).contains("does not read the column(s) 'colour'"));
+    let err = refusal(&o);
     assert_eq!(
         err.trim_end(),
         format!(
-            "error: {}: the stock no longer holds the parts, so nothing was taken: 150k 5 % 250 mW: wanted 2, on hand 0",
+            "error: {}: the stock holds too few for this build (all its boards together), so nothing was taken: 150k 5 % 250 mW: 2 wanted, 0 on hand, 2 short",
             stock.display()
         )
     );
@@ -284,27 +297,27 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
     let missing = dir.join("no-such.csv");
     let cases: Vec<(Vec<&str>, i32, String)> = vec![
         (
-            vec!["stock", "take", s(&stock), "--result", s(&json)],
+            vec!["stock", "withdraw", s(&stock), "--result", s(&json)],
             2,
             format!("{}:1:37: missing field `tolerance`", json.display()),
         ),
         (
-            vec!["stock", "take", s(&stock), "--result", s(&frac)],
+            vec!["stock", "withdraw", s(&stock), "--result", s(&frac)],
             2,
             "invalid value: integer `-1`, expected u32".to_string(),
         ),
         (
-            vec!["stock", "take", s(&stock), "--result", s(&missing)],
+            vec!["stock", "withdraw", s(&stock), "--result", s(&missing)],
             2,
             format!("{}: cannot read the design result", missing.display()),
         ),
         (
-            vec!["stock", "take", s(&missing), "--result", s(&json)],
+            vec!["stock", "withdraw", s(&missing), "--result", s(&json)],
             2,
             format!("{}: cannot read the stock file", missing.display()),
         ),
         (
-            vec!["stock", "take", s(&bad_stock), "--result", s(&json)],
+            vec!["stock", "withdraw", s(&bad_stock), "--result", s(&json)],
             2,
             format!(
                 "{}:2: column qty: \"-1\" is not a quantity",
@@ -340,7 +353,7 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
     ];
     for (args, code, want) in cases {
         let o = run(&args);
-        let err = stderr(&o);
+        let err = refusal(&o);
         assert_eq!(o.status.code(), Some(code), "{args:?}: {err}");
         assert!(err.contains(&want), "{args:?}: {err}");
         assert!(err.starts_with("error: "), "{args:?}: {err}");
@@ -348,7 +361,7 @@ fn bad_inputs_get_one_line_and_the_right_exit_code() {
         assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
     }
     // A missing flag is clap's to explain, with the usage line.
-    let o = run(&["stock", "take", s(&stock)]);
+    let o = run(&["stock", "withdraw", s(&stock)]);
     assert_eq!(o.status.code(), Some(2));
     assert!(stderr(&o).contains("--result <FILE>"), "{}", stderr(&o));
     assert!(!dir.join("drawer.csv.bak.1").exists());
@@ -359,7 +372,7 @@ fn the_plain_summary_still_works_beside_the_subcommands() {
     let o = run(&["stock", s(&fixture("drawer.csv"))]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert!(String::from_utf8(o.stdout).unwrap().contains("46 pieces"));
-    let o = run(&["stock", s(&fixture("drawer.csv")), "take"]);
+    let o = run(&["stock", s(&fixture("drawer.csv")), "withdraw"]);
     assert_eq!(o.status.code(), Some(2));
 }
 
@@ -401,7 +414,77 @@ fn what_design_writes_is_what_take_reads() {
             .unwrap()
     };
     let before = pieces(&stock);
-    let o = run(&["stock", "take", s(&stock), "--result", s(&result)]);
+    let o = run(&["stock", "withdraw", s(&stock), "--result", s(&result)]);
     assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
     assert_eq!(pieces(&stock), before - picked);
+}
+
+/// Issue 17: a stock that never held enough for the boards asked for is not said to "no longer hold" them;
+/// the message says what is short and by how many, and nothing changes.
+#[test]
+fn too_few_for_the_boards_says_what_is_short() {
+    let (_dir, stock) = scratch("short-copies", false);
+    let o = run(&[
+        "stock",
+        "withdraw",
+        s(&stock),
+        "--result",
+        s(&fixture("design-one.json")),
+        "--copies",
+        "7",
+    ]);
+    assert_eq!(o.status.code(), Some(3), "{}", stderr(&o));
+    let err = refusal(&o);
+    // One 390R a board, 6 in the drawer (C3): 7 boards want 7. The 2k7s (3 a board, 25 on hand) and the
+    // 8k2s (2 a board, 15 on hand) suffice for 7 boards.
+    assert_eq!(
+        err.trim_end(),
+        format!(
+            "error: {}: the stock holds too few for this build (all its boards together), so nothing was taken: 390R 5 % 500 mW: 7 wanted, 6 on hand, 1 short",
+            stock.display()
+        )
+    );
+    assert!(!err.contains("no longer"), "{err}");
+    assert_eq!(std::fs::read_to_string(&stock).unwrap(), original(false));
+}
+
+/// Issue 17, item 7: `stock take` read as counting the stock in British usage; the command is `stock
+/// withdraw`, and the old name still works, with a one-line note that it is renamed.
+#[test]
+fn the_old_name_take_still_works_with_a_note() {
+    let (_dir, stock) = scratch("old-name", false);
+    let result = fixture("design-one.json");
+    let o = run(&[
+        "stock",
+        "take",
+        s(&stock),
+        "--result",
+        s(&result),
+        "--dry-run",
+    ]);
+    assert_eq!(o.status.code(), Some(0), "{}", stderr(&o));
+    let notes: Vec<String> = refusal(&o).lines().map(String::from).collect();
+    assert_eq!(
+        notes,
+        ["note: `biasfit stock take` is now `biasfit stock withdraw` (it removes parts; it does not count them); the old name still works for now"]
+    );
+    let new = run(&[
+        "stock",
+        "withdraw",
+        s(&stock),
+        "--result",
+        s(&result),
+        "--dry-run",
+    ]);
+    assert_eq!(
+        String::from_utf8_lossy(&new.stdout),
+        String::from_utf8_lossy(&o.stdout)
+    );
+    assert!(refusal(&new).is_empty(), "{}", stderr(&new));
+    let help = run(&["stock", "--help"]);
+    let help = String::from_utf8_lossy(&help.stdout);
+    assert!(
+        help.contains("withdraw") && !help.contains("  take "),
+        "{help}"
+    );
 }

@@ -44,7 +44,7 @@ fn d9(stock: &Path) -> u32 {
 
 fn take(stock: &Path, result: &Path) -> Child {
     Command::new(BIN)
-        .args(["stock", "take"])
+        .args(["stock", "withdraw"])
         .arg(stock)
         .arg("--result")
         .arg(result)
@@ -168,7 +168,7 @@ fn a_lock_held_too_long_is_a_refusal_that_writes_nothing() {
     held.lock().unwrap();
     // The wait is 10 s; the test hook shortens it to 0.2 s.
     let out = Command::new(BIN)
-        .args(["stock", "take"])
+        .args(["stock", "withdraw"])
         .arg(&stock)
         .arg("--result")
         .arg(&result)

@@ -228,13 +228,23 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
         },
     };
     let s = match picked {
-        Position::Stage(s) => s,
+        Position::Stage(s) => {
+            let one = biasfit::stage::Design {
+                file: design.file.clone(),
+                stages: vec![s.clone()],
+                circuit_tables: 0,
+            };
+            super::ideal::warn_ideal_failures(&one, &[0]);
+            s
+        }
         Position::Circuit(c) => return check_circuit(&args, c, tol, watts, &outputs, out),
     };
     let nets = networks(s, &args.slots, tol, watts)?;
     let report = Report::new(vec![StageReport::new(s, &nets)]);
     if args.drawings.wanted() {
-        let sheet = [SheetStage::new(s, &nets, 1)];
+        let mut stage_sheet = SheetStage::new(s, &nets, 1);
+        stage_sheet.notes = s.ideal_failure_notes();
+        let sheet = [stage_sheet];
         let title = format!("{} ({})", s.name, design.file);
         for f in args.drawings.write(
             &outputs,

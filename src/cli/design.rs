@@ -161,10 +161,25 @@ fn keeps(
 }
 
 /// The build-sheet view of the chosen builds.
-pub fn sheet(design: &Design, built: &[biasfit::optimise::design::Built]) -> Vec<SheetStage> {
+pub fn sheet(
+    design: &Design,
+    built: &[biasfit::optimise::design::Built],
+    kept: &[(usize, biasfit::stage::Slot)],
+) -> Vec<SheetStage> {
     built
         .iter()
-        .map(|b| SheetStage::new(&design.stages[b.stage], &b.networks, b.copies))
+        .map(|b| {
+            let kept: Vec<_> = kept
+                .iter()
+                .filter(|(s, _)| *s == b.stage)
+                .map(|&(_, slot)| slot)
+                .collect();
+            let mut s =
+                SheetStage::new(&design.stages[b.stage], &b.networks, b.copies).with_kept(&kept);
+            // What no part can fix is said on the sheet too, under the stage's heading.
+            s.notes = design.stages[b.stage].ideal_failure_notes();
+            s
+        })
         .collect()
 }
 
@@ -215,7 +230,7 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     };
     let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);
     if args.drawings.wanted() {
-        let sheet = sheet(&design_file, &outcome.built);
+        let sheet = sheet(&design_file, &outcome.built, &outcome.kept);
         let title = format!("{} from {}", design_file.file, stock.file);
         for f in args.drawings.write(
             &outputs,

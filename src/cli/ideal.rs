@@ -100,6 +100,20 @@ pub fn stages(
 }
 
 /// The ideal values as one loose resistor per slot.
+/// The checks the picked stages' ideal designs fail, as sentences (what would fix each).
+pub fn design_notes(design: &Design, picked: &[usize]) -> Vec<String> {
+    picked
+        .iter()
+        .flat_map(|&i| design.stages[i].ideal_failure_notes())
+        .collect()
+}
+
+/// Warns, when a file is read for a command other than `ideal` and `design` (which say it in their
+/// report), of the checks its ideal design fails: no stocked or bought part passes them.
+pub fn warn_ideal_failures(design: &Design, picked: &[usize]) {
+    super::output::warn_all(&design_notes(design, picked));
+}
+
 fn ideal_networks(s: &Stage, tol: Tolerance, watts: Watts) -> Result<SlotNetworks, Failure> {
     let ideal = s.ideal().map_err(|e| Failure::Input(e.to_string()))?;
     Ok(ideal
@@ -117,6 +131,7 @@ pub fn run(args: IdealArgs, out: &mut Out) -> Result<(), Failure> {
     let (tol, watts) = args.parts.resolve()?;
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
     let mut reports = Vec::new();
+    let picked_stages = picked.clone();
     for i in picked {
         let s = &design.stages[i];
         let nets = ideal_networks(s, tol, watts)?;
@@ -127,6 +142,17 @@ pub fn run(args: IdealArgs, out: &mut Out) -> Result<(), Failure> {
         out.json(&report)?;
     } else {
         out.text(&table::render_ideal(&report, out.colour()))?;
+        // What no choice of parts can fix is said under the checks it concerns (issue 17).
+        let notes: Vec<String> = design_notes(&design, &picked_stages);
+        if !notes.is_empty() {
+            out.text(&format!(
+                "\n{}",
+                notes
+                    .iter()
+                    .map(|n| format!("note: {n}\n"))
+                    .collect::<String>()
+            ))?;
+        }
     }
     if report.all_ok() {
         Ok(())

@@ -47,7 +47,7 @@ enum Command {
     Verify(verify::VerifyArgs),
     /// List the starter design files, or write one to begin a design from
     New(new::NewArgs),
-    /// Validate and summarise a stock file (or take and add parts: `stock take`, `stock add`)
+    /// Validate and summarise a stock file (or withdraw and add parts: `stock withdraw`, `stock add`)
     Stock(stock::StockArgs),
 }
 

@@ -148,6 +148,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         &format!("{} and {}", args.file.display(), args.stock.display()),
         move || Ok((stages(&file, None)?.0, load_stock(&stock_file, &defaults)?)),
     )?;
+    super::ideal::warn_ideal_failures(&design, &(0..design.stages.len()).collect::<Vec<_>>());
     let catalogue = match &args.catalog {
         Some(path) => Catalogue::load(path).map_err(|e| Failure::Input(e.to_string()))?,
         None => {
@@ -220,11 +221,13 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
             time_limit: time_limit.map(|l| l.as_secs_f64()),
         },
         notes: Vec::new(),
+        // order takes no kept slots.
+        kept: Vec::new(),
     };
     let mut report = DesignReport::new(&design, &outcome.parts, &as_outcome, args.copies);
     report
         .pick
-        .retain(|p| p.location.as_deref() != Some("to buy"));
+        .retain(|p| p.location.as_deref() != Some(biasfit::stock::TO_BUY));
     if let Some(path) = &args.csv {
         let csv = render_csv(&outcome.lines);
         outputs.write("--csv", path, Kind::OrderCsv, csv.as_bytes(), out)?;
@@ -233,7 +236,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         }
     }
     if args.drawings.wanted() {
-        let sheet = super::design::sheet(&design, &outcome.built);
+        let sheet = super::design::sheet(&design, &outcome.built, &[]);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
         for f in args.drawings.write(
             &outputs,

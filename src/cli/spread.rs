@@ -133,6 +133,7 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
         return spread_circuit(&args, c, range, out);
     }
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
+    super::ideal::warn_ideal_failures(&design, &picked);
     let chosen: Vec<&Stage> = picked.iter().map(|&i| &design.stages[i]).collect();
     let nets: Vec<SlotNetworks> = match &args.result {
         Some(path) => {
@@ -182,7 +183,11 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
         .iter()
         .map(|(st, n, sp)| {
             let mut s = SheetStage::new(st, n, 1);
-            s.load_line = s.load_line.with_cloud(&sp.monte_carlo.cloud);
+            s.load_line = s
+                .load_line
+                .with_cloud(&sp.monte_carlo.cloud, sp.monte_carlo.runs);
+            s.notes
+                .push(biasfit::report::spread::yield_line(&sp.monte_carlo));
             s
         })
         .collect();

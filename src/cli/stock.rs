@@ -1,5 +1,6 @@
-//! `biasfit stock FILE`: validate a stock file and summarise it; `biasfit stock take` and `biasfit stock add`:
-//! keep it true to the drawer after a build or a delivery.
+//! `biasfit stock FILE`: validate a stock file and summarise it; `biasfit stock withdraw` and `biasfit stock
+//! add`: keep it true to the drawer after a build or a delivery. `stock take` is the old name of `withdraw`,
+//! kept working (hidden) with a note: in British usage a stocktake is a count of the stock, not a removal.
 
 use super::flags::whole;
 use super::output::warn_all;
@@ -32,16 +33,19 @@ pub struct StockArgs {
 /// What to do to a stock file other than summarise it.
 #[derive(Debug, Subcommand)]
 pub enum StockAction {
-    /// Subtract the parts a design used (keeps STOCK.bak.1, then rewrites only the qty fields)
+    /// Withdraw the parts a design used: subtract them (keeps STOCK.bak.1, then rewrites only the qty fields)
+    Withdraw(TakeArgs),
+    /// The old name of `withdraw`
+    #[command(hide = true)]
     Take(TakeArgs),
     /// Add the parts that arrived, from an order file (keeps STOCK.bak.1)
     Add(AddArgs),
 }
 
-/// Arguments of `biasfit stock take`.
+/// Arguments of `biasfit stock withdraw`.
 #[derive(Debug, Args)]
 pub struct TakeArgs {
-    /// The stock CSV file to take from
+    /// The stock CSV file to withdraw the parts from
     pub stock: PathBuf,
     /// The design result (what `biasfit design --json` wrote)
     #[arg(long, value_name = "FILE")]
@@ -116,13 +120,40 @@ impl DefaultArgs {
 pub fn load(file: &Path, defaults: &DefaultArgs) -> Result<stock::Stock, Failure> {
     let s = stock::load(file, defaults.resolve()?).map_err(input)?;
     warn_all(&s.warnings);
+    warn_all(&defaults_hint(&s));
     Ok(s)
+}
+
+/// The flags that change what was assumed for blank fields (the library's warning says what, not how).
+fn defaults_hint(s: &stock::Stock) -> Vec<String> {
+    let flags: Vec<&str> = [
+        (s.defaulted.0 > 0, "--default-tolerance"),
+        (s.defaulted.1 > 0, "--default-power"),
+    ]
+    .iter()
+    .filter(|(used, _)| *used)
+    .map(|(_, f)| *f)
+    .collect();
+    if flags.is_empty() {
+        return Vec::new();
+    }
+    vec![format!(
+        "{}: give {} to assume something else for blank fields",
+        s.file,
+        flags.join(" or ")
+    )]
 }
 
 /// Runs `biasfit stock`.
 pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
     match args.action {
-        Some(StockAction::Take(a)) => return take(a, out),
+        Some(StockAction::Withdraw(a)) => return take(a, out),
+        Some(StockAction::Take(a)) => {
+            super::output::note(
+                "note: `biasfit stock take` is now `biasfit stock withdraw` (it removes parts; it does not count them); the old name still works for now",
+            );
+            return take(a, out);
+        }
         Some(StockAction::Add(a)) => return add(a, out),
         None => {}
     }
@@ -169,6 +200,7 @@ fn lock(path: &Path, args: &EditArgs) -> Result<Option<save::EditLock>, Failure>
 fn load_for_edit(path: &Path, defaults: &DefaultArgs) -> Result<StockFile, Failure> {
     let sf = StockFile::load(path, defaults.resolve()?).map_err(input)?;
     warn_all(&sf.stock.warnings);
+    warn_all(&defaults_hint(&sf.stock));
     let stale: Vec<String> = save::leftovers(path)
         .iter()
         .map(|p| {
@@ -232,7 +264,7 @@ fn finish(
     }
 }
 
-/// Runs `biasfit stock take`.
+/// Runs `biasfit stock withdraw` (or its old name, `stock take`).
 fn take(args: TakeArgs, out: &mut Out) -> Result<(), Failure> {
     not_the_stock("--result", &args.result, &args.stock)?;
     let _lock = lock(&args.stock, &args.edit)?;

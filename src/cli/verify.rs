@@ -61,6 +61,7 @@ pub fn run(args: VerifyArgs, out: &mut Out) -> Result<(), Failure> {
     let readings = Measured::parse(&args.measured).map_err(|e| Failure::Input(e.to_string()))?;
     let (tol, watts) = args.parts.resolve()?;
     let (design, picked) = stages(&args.file, args.stage.as_deref())?;
+    super::ideal::warn_ideal_failures(&design, &picked);
     if picked.len() > 1 {
         let names: Vec<String> = design
             .stages

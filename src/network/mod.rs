@@ -79,6 +79,38 @@ impl Network {
         }
     }
 
+    /// The resistance as a code to the digits its members change, up to 6 significant: `165k+27R4` is
+    /// 165k03, not 165k, which would hide what the 27R4 adds. An exact value keeps its short code (5k).
+    pub fn value_code(&self) -> String {
+        use crate::notation::value::{code, code_with, round_sig};
+        let v = self.ohms().0;
+        let members = self.members();
+        let exact = (3..=6).find(|&s| ((round_sig(v, s) - v) / v).abs() < 1e-12);
+        if members.len() < 2 || exact.is_some() || !v.is_finite() || v <= 0.0 {
+            return code(Ohms(v));
+        }
+        // What each member moves the value by, to first order: its value times the network's
+        // sensitivity to it (1 for a series member, (R/r)² for a parallel one).
+        const H: f64 = 1e-6;
+        let smallest = members
+            .iter()
+            .map(|&target| {
+                let moved = self.ohms_with(&|m| {
+                    if std::ptr::eq(m, target) {
+                        m.ohms * (1.0 + H)
+                    } else {
+                        m.ohms
+                    }
+                });
+                (moved.0 - v).abs() / H
+            })
+            .fold(f64::INFINITY, f64::min);
+        let magnitude = v.log10().floor() as i32;
+        (4..=6)
+            .find(|&sig| 10f64.powi(magnitude - sig as i32 + 1) <= smallest)
+            .map_or_else(|| code_with(Ohms(v), 6), |sig| code_with(Ohms(v), sig))
+    }
+
     /// The members, left to right.
     pub fn members(&self) -> Vec<&Member> {
         let mut out = Vec::new();

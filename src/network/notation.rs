@@ -1,6 +1,7 @@
 //! The network notation used on the command line and in reports: `a+b` is series, `a|b` is parallel, and
 //! parentheses group, as in `(220+47)|1k`. `|` binds tighter than `+`, the way × binds tighter than + and the
-//! way 1/R adds up for parallel parts, so `1k+2k|2k` is 1k in series with (2k | 2k) = 2 kΩ.
+//! way 1/R adds up for parallel parts, so `1k+2k|2k` is 1k in series with (2k | 2k) = 2 kΩ. `||`, as the
+//! trade writes "in parallel with" on paper (`2k2||180`), reads as `|`; biasfit always prints `|`.
 
 use super::{Member, Network};
 use crate::notation::value::{code, parse_ohms};
@@ -78,6 +79,9 @@ impl Parser<'_> {
         let mut parts = vec![self.factor()?];
         while self.peek() == Some('|') {
             self.at += 1;
+            if self.chars.get(self.at) == Some(&'|') {
+                self.at += 1;
+            }
             parts.push(self.factor()?);
         }
         Ok(join(parts, false))
@@ -270,6 +274,10 @@ mod tests {
         assert_eq!(parse("1k+(1k+1k)"), parse("1k+1k+1k"));
         assert_eq!(parse("4.7e+3+1k").ohms(), Ohms(5700.0));
         assert_eq!(parse("1.5 kΩ|1.5 kΩ").ohms(), Ohms(750.0));
+        // `||` is `|`, with or without spaces round it, and prints as `|`.
+        assert_eq!(parse("2k2||180"), parse("2k2|180"));
+        assert_eq!(parse("1k + 2k || 2k"), parse("1k+2k|2k"));
+        assert_eq!(parse("2k2||180").notation(), "2k2|180R");
     }
 
     #[test]
@@ -292,7 +300,7 @@ mod tests {
     fn refuses_broken_notation() {
         for s in [
             "", "+", "1k+", "|1k", "(1k+2k", "1k+2k)", "1k++2k", "1k|x", "()", "1k 2k", "1k(2k)",
-            "4k7k|1k",
+            "4k7k|1k", "1k|||1k", "1k| |1k", "||1k", "1k||",
         ] {
             let err = parse_network(s, Tolerance(0.05), Watts(0.25)).expect_err(s);
             assert!(

@@ -281,7 +281,11 @@ pub fn parse_tolerance(input: &str) -> Result<Tolerance, QuantityError> {
 
 /// Formats a number with up to `sig` significant digits, dropping trailing zeros ("2.45", "12", "0.35").
 pub fn trim_number(x: f64, sig: u32) -> String {
-    if x == 0.0 || !x.is_finite() {
+    if x == 0.0 {
+        // -0 is 0 to a reader.
+        return "0".to_string();
+    }
+    if !x.is_finite() {
         return format!("{x}");
     }
     let magnitude = x.abs().log10().floor() as i32;

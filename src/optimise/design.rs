@@ -149,6 +149,8 @@ pub struct Baseline {
     pub in_stock: bool,
     /// Whether it meets the hard constraints.
     pub feasible: bool,
+    /// The hard constraints it fails, in words ("stiffness 7.2 × IB (needs ≥ 10 × IB)"); empty when feasible.
+    pub fails: Vec<String>,
 }
 
 /// A finished design.
@@ -164,6 +166,19 @@ pub struct Outcome {
     pub solver: SolverInfo,
     /// Where the search was narrowed to keep a huge stock manageable.
     pub notes: Vec<String>,
+    /// The slots kept as given (already fitted), by stage index.
+    pub kept: Vec<(usize, Slot)>,
+}
+
+impl Outcome {
+    /// The slots of one stage that were kept as given.
+    pub fn kept_in(&self, stage: usize) -> Vec<Slot> {
+        self.kept
+            .iter()
+            .filter(|(s, _)| *s == stage)
+            .map(|&(_, slot)| slot)
+            .collect()
+    }
 }
 
 /// Why no design could be made.
@@ -311,27 +326,18 @@ fn is_resistor_power(c: &Check) -> bool {
     c.name.starts_with("power ")
 }
 
-/// A failed check in words: "stiffness 7.2 (needs ≥ 10)".
+/// Whether a check is one of the hard constraints (stiffness, divider current, the active region that the
+/// headroom checks test, a resistor's rating), rather than a figure reported beside them.
+fn is_hard(c: &Check) -> bool {
+    is_resistor_power(c)
+        || c.name == "stiffness"
+        || c.name == "divider current"
+        || c.name.starts_with("headroom")
+}
+
+/// A failed check in words: "stiffness 7.2 × IB (needs ≥ 10 × IB)".
 fn describe(c: &Check) -> String {
-    use crate::notation::{engineering, trim_number};
-    use crate::stage::CheckUnit;
-    let show = |x: f64| match c.unit {
-        CheckUnit::Ratio => trim_number(x, 3),
-        CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
-        CheckUnit::Amps => engineering(x, "A"),
-        CheckUnit::Volts => engineering(x, "V"),
-        CheckUnit::Watts => engineering(x, "W"),
-        CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
-        CheckUnit::Flag if x >= 1.0 => "met".into(),
-        CheckUnit::Flag => "not met".into(),
-    };
-    let op = if c.at_least { "≥" } else { "≤" };
-    format!(
-        "{} {} (needs {op} {})",
-        c.name,
-        show(c.value),
-        show(c.limit)
-    )
+    c.describe()
 }
 
 impl Evaluate for Model<'_> {
@@ -738,6 +744,11 @@ fn design_once(
             time_limit: request.time_limit.map(|l| l.as_secs_f64()),
         },
         notes: narrowed,
+        kept: request
+            .keep
+            .iter()
+            .map(|(s, slot, _)| (*s, *slot))
+            .collect(),
     })
 }
 
@@ -781,13 +792,28 @@ fn baseline_of(
     let networks = SlotNetworks::from_pairs(pairs);
     let values = networks.values();
     let in_stock = need.iter().all(|(&p, &n)| stock.parts[p].qty >= n);
-    let feasible = model.stage.electrical_ok(&values) && ratings_ok(&model.stage.checks(&networks));
+    let checks = model.stage.checks(&networks);
+    let feasible = model.stage.electrical_ok(&values) && ratings_ok(&checks);
+    let mut fails: Vec<String> = if feasible {
+        Vec::new()
+    } else {
+        checks
+            .iter()
+            .filter(|c| !c.ok && is_hard(c))
+            .map(describe)
+            .collect()
+    };
+    if !feasible && fails.is_empty() {
+        // The region tests hold at the ends of the temperature range too, which no single check names.
+        fails.push("the active region at an end of the beta or temperature range".to_string());
+    }
     Baseline {
         stage: si,
         error: model.stage.error(&values),
         networks,
         in_stock,
         feasible,
+        fails,
     }
 }
 
@@ -827,8 +853,29 @@ fn infeasible(
                     failing.join("; ")
                 )
             };
+            // A constraint the ideal design fails too is not the stock's fault: buying parts cannot help.
+            let unfixable: Vec<(Check, &str)> = stage
+                .ideal_failures()
+                .into_iter()
+                .filter(|(c, _)| {
+                    failing
+                        .iter()
+                        .any(|f| f.starts_with(&format!("{} ", c.name)))
+                })
+                .collect();
+            let next = match unfixable.first() {
+                Some((_, fix)) => format!(
+                    "The ideal design fails {} too, so no part bought passes it; {fix}",
+                    unfixable
+                        .iter()
+                        .map(|(c, _)| c.name.as_str())
+                        .collect::<Vec<_>>()
+                        .join(", ")
+                ),
+                None => "Widen the stock with `biasfit order`".to_string(),
+            };
             why.push_str(&format!(
-                ". Closest: {} (error {:.2} %). Widen the stock with `biasfit order`",
+                ". Closest: {} (error {:.2} %). {next}",
                 model
                     .slots
                     .iter()

@@ -101,7 +101,7 @@ pub fn order(
             tolerance: item.tolerance,
             power: item.power,
             qty: UNLIMITED,
-            locations: vec!["to buy".to_string()],
+            locations: vec![crate::stock::TO_BUY.to_string()],
             notes: Vec::new(),
             lines: Vec::new(),
         });
@@ -237,7 +237,7 @@ pub fn order(
                     ohms: item.ohms,
                     tolerance: item.tolerance,
                     power: item.power,
-                    location: Some("to buy".to_string()),
+                    location: Some(crate::stock::TO_BUY.to_string()),
                     part: Some(stocked + i),
                 };
                 (s, Network::Single(member))

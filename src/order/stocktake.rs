@@ -1,4 +1,4 @@
-//! Keeping the stock file true to the drawer: take out the parts a design used (`stock take`) and put in the
+//! Keeping the stock file true to the drawer: take out the parts a design used (`stock withdraw`, once `stock take`) and put in the
 //! parts that arrived (`stock add`).
 //!
 //! Both are pure edits of the file's bytes: only the qty fields of the rows concerned are rewritten (the
@@ -42,7 +42,7 @@ impl StockFile {
     }
 }
 
-/// The part of a design result that stock take reads: what `biasfit design --json` writes, minus the
+/// The part of a design result that stock withdraw reads: what `biasfit design --json` writes, minus the
 /// stages.
 #[derive(Clone, Debug, PartialEq, Serialize, Deserialize)]
 pub struct DesignResult {
@@ -129,7 +129,7 @@ pub enum TakeError {
         asked: u32,
     },
     /// The stock does not hold what the design needs.
-    #[error("{file}: the stock no longer holds the parts, so nothing was taken: {}", list(.shortages))]
+    #[error("{file}: the stock holds too few for this build (all its boards together), so nothing was taken: {}", list(.shortages))]
     Short {
         /// The stock file.
         file: String,
@@ -684,8 +684,11 @@ impl fmt::Display for Shortage {
     fn fmt(&self, f: &mut fmt::Formatter<'_>) -> fmt::Result {
         write!(
             f,
-            "{}: wanted {}, on hand {}",
-            self.spec, self.wanted, self.on_hand
+            "{}: {} wanted, {} on hand, {} short",
+            self.spec,
+            self.wanted,
+            self.on_hand,
+            self.wanted.saturating_sub(self.on_hand)
         )
     }
 }
@@ -796,8 +799,9 @@ mod tests {
         .unwrap_err();
         assert_eq!(
             err.to_string(),
-            "s.csv: the stock no longer holds the parts, so nothing was taken: 3k3 5 % 250 mW: wanted 17, \
-             on hand 16; 68k 5 % 250 mW: wanted 1, on hand 0; 1k 5 % 250 mW: wanted 2, on hand 0"
+            "s.csv: the stock holds too few for this build (all its boards together), so nothing was taken: \
+             3k3 5 % 250 mW: 17 wanted, 16 on hand, 1 short; 68k 5 % 250 mW: 1 wanted, 0 on hand, 1 short; \
+             1k 5 % 250 mW: 2 wanted, 0 on hand, 2 short"
         );
     }
 

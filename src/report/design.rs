@@ -25,6 +25,10 @@ pub struct BuiltStage {
     /// The worst-case error over tolerance, beta and temperature, when the design was chosen by it.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub worst_error: Option<f64>,
+    /// The checks the ideal design itself fails, each with what would fix it (no part does); absent when
+    /// the ideal passes.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub ideal_fails: Vec<String>,
 }
 
 /// One line of the pick list: what to pull from the drawer.
@@ -53,6 +57,8 @@ pub struct BaselineStage {
     pub in_stock: bool,
     /// Whether it meets the hard constraints.
     pub feasible: bool,
+    /// The hard constraints it fails, in words; empty when feasible.
+    pub fails: Vec<String>,
     /// Each slot's rounded value (letter code).
     pub slots: BTreeMap<String, String>,
 }
@@ -96,6 +102,19 @@ pub struct DesignReport {
     pub cautions: Vec<String>,
     /// How the search was limited (a window narrowed on a huge stock), if at all.
     pub notes: Vec<String>,
+    /// The slots kept as given: already fitted, so on no pick list.
+    pub kept: Vec<KeptSlot>,
+}
+
+/// A slot kept as given (`--keep`): already fitted on the board.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct KeptSlot {
+    /// The stage's name.
+    pub stage: String,
+    /// The slot.
+    pub slot: String,
+    /// Its network in the `--use` notation.
+    pub network: String,
 }
 
 fn slot_codes(design: &Design, b: &Built) -> BTreeMap<String, String> {
@@ -113,9 +132,11 @@ impl DesignReport {
             .built
             .iter()
             .map(|b| BuiltStage {
-                stage: StageReport::new(&design.stages[b.stage], &b.networks),
+                stage: StageReport::new(&design.stages[b.stage], &b.networks)
+                    .with_kept(&outcome.kept_in(b.stage)),
                 copies: b.copies,
                 worst_error: b.worst,
+                ideal_fails: design.stages[b.stage].ideal_failure_notes(),
             })
             .collect();
         let mut counts: BTreeMap<usize, u32> = BTreeMap::new();
@@ -147,6 +168,7 @@ impl DesignReport {
             error: b.error,
             in_stock: b.in_stock,
             feasible: b.feasible,
+            fails: b.fails.clone(),
             slots: design.stages[b.stage]
                 .slots()
                 .into_iter()
@@ -176,6 +198,28 @@ impl DesignReport {
             solver: outcome.solver.clone(),
             cautions,
             notes: outcome.notes.clone(),
+            kept: outcome
+                .built
+                .iter()
+                .filter(|b| b.copies > 0)
+                .flat_map(|b| {
+                    outcome
+                        .kept_in(b.stage)
+                        .into_iter()
+                        .filter_map(move |slot| {
+                            b.networks.get(slot).map(|n| KeptSlot {
+                                stage: design.stages[b.stage].name.clone(),
+                                slot: slot.to_string(),
+                                network: n.notation(),
+                            })
+                        })
+                })
+                .fold(Vec::new(), |mut v: Vec<KeptSlot>, k| {
+                    if !v.contains(&k) {
+                        v.push(k);
+                    }
+                    v
+                }),
         }
     }
 
@@ -225,9 +269,9 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
                     ", parts not all in stock"
                 },
                 if b.feasible {
-                    ""
+                    String::new()
                 } else {
-                    ", fails a hard constraint"
+                    format!(", fails {}", b.fails.join("; "))
                 },
             );
             let _ = writeln!(
@@ -244,12 +288,16 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
             );
         }
         // Common bench practice (no source): measured within 10 % of calculated is acceptable, 5 % the aim.
+        // Buying parts brings the error down; it cannot pass a check the ideal design fails (said below).
         if s.stage.error > 0.05 {
             let _ = writeln!(
                 out,
-                "  note: the closest the stock allows is {} from target; `biasfit order` finds what to buy",
+                "  note: the closest the stock allows is {} from target; `biasfit order` finds what to buy to come closer",
                 percent(s.stage.error)
             );
+        }
+        for n in &s.ideal_fails {
+            let _ = writeln!(out, "  note: {n}");
         }
     }
     if !r.alternatives.is_empty() {
@@ -300,6 +348,25 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
             percent(p.tolerance),
             engineering(p.power, "W"),
             p.count
+        );
+    }
+    if !r.kept.is_empty() {
+        let several = r.stages.len() > 1;
+        let kept: Vec<String> = r
+            .kept
+            .iter()
+            .map(|k| {
+                if several {
+                    format!("{} {} = {}", k.stage, k.slot, k.network)
+                } else {
+                    format!("{} = {}", k.slot, k.network)
+                }
+            })
+            .collect();
+        let _ = writeln!(
+            out,
+            "  already fitted (kept, not pulled): {}",
+            kept.join(", ")
         );
     }
     let limit = r

@@ -108,16 +108,53 @@ fn esc(s: &str) -> String {
         .replace('"', "&quot;")
 }
 
+/// A whole number with thin-space thousands groups, as the SI brochure writes them: "20 000".
+pub fn grouped(n: u64) -> String {
+    let digits = n.to_string();
+    // The first group takes what is left over from whole groups of three (README: Rust 1.80, so no
+    // is_multiple_of).
+    let first = match digits.len() % 3 {
+        0 => 3,
+        r => r,
+    };
+    let mut out = digits[..first.min(digits.len())].to_string();
+    let mut at = first;
+    while at < digits.len() {
+        out.push('\u{2009}');
+        out.push_str(&digits[at..at + 3]);
+        at += 3;
+    }
+    out
+}
+
+/// The top of a count axis: the first of 1, 2, 2.5, 5 × 10ⁿ at least 10 % above the tallest bar, so the bar
+/// never touches the frame and the ticks fall on round numbers.
+pub fn count_axis_top(peak: u64) -> u64 {
+    let want = (peak as f64 * 1.1).max(1.0);
+    let mut scale = 1.0;
+    loop {
+        for m in [1.0, 2.0, 2.5, 5.0] {
+            let top = m * scale;
+            if top >= want && (top.fract() == 0.0) {
+                return top as u64;
+            }
+        }
+        scale *= 10.0;
+    }
+}
+
 /// The SVG chart of one histogram, `width` × `height` pixels, drawn at (`x`, `y`) inside a larger
-/// picture: bars, the ±10 % and ±5 % bands shaded behind them, the target as a dashed line, and the ends and
-/// target labelled on the axis.
+/// picture: bars under a count axis with headroom above the tallest, the ±10 % and ±5 % bands shaded behind
+/// them, the target as a dashed line, and the ends and target labelled on the axis.
 pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64) -> String {
     const W: f64 = 420.0;
     const H: f64 = 200.0;
-    const LEFT: f64 = 10.0;
+    // Room on the left for the count axis's labels.
+    const LEFT: f64 = 46.0;
+    const RIGHT: f64 = 10.0;
     const TOP: f64 = 28.0;
     const BOTTOM: f64 = 40.0;
-    let plot_w = W - 2.0 * LEFT;
+    let plot_w = W - LEFT - RIGHT;
     let plot_h = H - TOP - BOTTOM;
     // The drawn range covers the samples and the ±10 % band, so the bands always show where they are.
     let lo = h.lo.min(axis.target * 0.9).min(axis.target * 1.1);
@@ -145,7 +182,32 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
             plot_h
         );
     }
-    let peak = h.counts.iter().copied().max().unwrap_or(0).max(1) as f64;
+    let top = count_axis_top(h.counts.iter().copied().max().unwrap_or(0));
+    // The count axis: 0, half and the top, with light grid lines, and what it counts.
+    for tick in [0, top / 2, top] {
+        let ty = base - tick as f64 / top as f64 * plot_h;
+        let _ = writeln!(
+            s,
+            r##"<line x1="{:.1}" y1="{ty:.1}" x2="{:.1}" y2="{ty:.1}" stroke="#ccc" stroke-width="0.5"/><text x="{:.1}" y="{:.1}" text-anchor="end" class="count">{}</text>"##,
+            x + LEFT,
+            x + LEFT + plot_w,
+            x + LEFT - 4.0,
+            ty + 4.0,
+            grouped(tick)
+        );
+    }
+    let _ = writeln!(
+        s,
+        r##"<line x1="{:.1}" y1="{:.1}" x2="{:.1}" y2="{base:.1}" stroke="#333"/><text x="{:.1}" y="{:.1}" text-anchor="middle" transform="rotate(-90 {:.1} {:.1})" fill="#555">builds</text>"##,
+        x + LEFT,
+        y + TOP,
+        x + LEFT,
+        x + 10.0,
+        y + TOP + plot_h / 2.0,
+        x + 10.0,
+        y + TOP + plot_h / 2.0
+    );
+    let peak = top as f64;
     for (k, &n) in h.counts.iter().enumerate() {
         if n == 0 {
             continue;
@@ -196,7 +258,7 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
         r##"<text x="{:.1}" y="{:.1}" fill="#555">shaded: within ±10 % and ±5 % of target; {} builds</text></g>"##,
         x + LEFT,
         base + 31.0,
-        h.total()
+        grouped(h.total())
     );
     s
 }
@@ -206,17 +268,40 @@ pub const CHART: (f64, f64) = (420.0, 200.0);
 
 /// A standalone SVG document of charts laid out in rows of `per_row`, each given as (histogram, axis, title).
 pub fn render_svg(charts: &[(&Histogram, Axis<'_>, String)], per_row: usize) -> String {
+    render_svg_headed(charts, per_row, &[])
+}
+
+/// Height of a row's heading line in [`render_svg_headed`].
+const HEADING: f64 = 24.0;
+
+/// As [`render_svg`], with a heading line above each row (`headings[i]` over row `i`): where a reader looks
+/// first, so a figure that concerns the whole row (the combined yield) goes there, not in one chart's title.
+pub fn render_svg_headed(
+    charts: &[(&Histogram, Axis<'_>, String)],
+    per_row: usize,
+    headings: &[String],
+) -> String {
     let per_row = per_row.max(1);
     let rows = charts.len().div_ceil(per_row).max(1);
+    let head = if headings.is_empty() { 0.0 } else { HEADING };
+    let row_h = CHART.1 + head;
     let (w, h) = (
         CHART.0 * per_row.min(charts.len().max(1)) as f64,
-        CHART.1 * rows as f64,
+        row_h * rows as f64,
     );
     let mut s = format!(
         r##"<svg xmlns="http://www.w3.org/2000/svg" width="{w:.0}" height="{h:.0}" viewBox="0 0 {w:.0} {h:.0}">
 <rect width="100%" height="100%" fill="white"/>
 "##
     );
+    for (row, heading) in headings.iter().enumerate().take(rows) {
+        let _ = writeln!(
+            s,
+            r##"<text x="10" y="{:.1}" font-family="sans-serif" font-size="13" font-weight="bold" class="heading">{}</text>"##,
+            row as f64 * row_h + 17.0,
+            esc(heading)
+        );
+    }
     for (i, (hist, axis, title)) in charts.iter().enumerate() {
         let (col, row) = (i % per_row, i / per_row);
         s.push_str(&render_svg_at(
@@ -224,7 +309,7 @@ pub fn render_svg(charts: &[(&Histogram, Axis<'_>, String)], per_row: usize) -> 
             axis,
             title,
             col as f64 * CHART.0,
-            row as f64 * CHART.1,
+            row as f64 * row_h + head,
         ));
     }
     s.push_str("</svg>\n");
@@ -299,5 +384,35 @@ mod tests {
         assert_eq!(s.matches("<g ").count(), s.matches("</g>").count());
         // Three bars, each with a tooltip.
         assert_eq!(s.matches("<title>").count(), 3);
+        // A count axis with its ticks: the tallest bar (2) under a top of 5 (10 % headroom, round).
+        assert!(s.contains(">builds</text>"));
+        assert_eq!(s.matches("class=\"count\"").count(), 3);
+        assert!(
+            s.contains(">5</text>") && s.contains(">2</text>") && s.contains(">0</text>"),
+            "{s}"
+        );
+    }
+
+    #[test]
+    fn count_axes_leave_headroom_on_round_numbers() {
+        for (peak, top) in [
+            (0, 1),
+            (1, 2),
+            (2, 5),
+            (9, 10),
+            (10, 20),
+            (45, 50),
+            (46, 100),
+            (180, 200),
+            (2200, 2500),
+            (2300, 5000),
+        ] {
+            assert_eq!(count_axis_top(peak), top, "{peak}");
+            assert!(top as f64 >= peak as f64 * 1.1);
+        }
+        assert_eq!(grouped(20_000), "20\u{2009}000");
+        assert_eq!(grouped(2_000), "2\u{2009}000");
+        assert_eq!(grouped(999), "999");
+        assert_eq!(grouped(1_234_567), "1\u{2009}234\u{2009}567");
     }
 }

@@ -31,6 +31,11 @@ pub struct SheetStage {
     pub schematic: Schematic,
     /// The load line (give it a Monte Carlo cloud with [`LoadLine::with_cloud`] if you have one).
     pub load_line: LoadLine,
+    /// The slots kept as given: already fitted, so drawn and listed but not pulled from a drawer.
+    pub kept: Vec<Slot>,
+    /// Figures about the whole stage shown under its heading, where a reader looks first (the Monte Carlo
+    /// yield of a spread).
+    pub notes: Vec<String>,
 }
 
 impl SheetStage {
@@ -42,7 +47,16 @@ impl SheetStage {
             copies,
             schematic: Schematic::of(stage, networks),
             load_line: LoadLine::of(stage, &networks.values()),
+            kept: Vec::new(),
+            notes: Vec::new(),
         }
+    }
+
+    /// Marks slots as kept: already fitted on the board.
+    pub fn with_kept(mut self, kept: &[Slot]) -> SheetStage {
+        self.report = self.report.with_kept(kept);
+        self.kept = kept.to_vec();
+        self
     }
 }
 
@@ -52,7 +66,8 @@ pub fn pick_list(stages: &[SheetStage]) -> Vec<PickLine> {
     let mut counts: BTreeMap<(Option<String>, u64, u64, u64), u32> = BTreeMap::new();
     for s in stages {
         for (slot, net) in s.networks.iter() {
-            if !s.schematic.slots.contains(&slot) {
+            // A kept slot is already on the board: nothing to pull.
+            if !s.schematic.slots.contains(&slot) || s.kept.contains(&slot) {
                 continue;
             }
             for m in net.members() {
@@ -204,6 +219,13 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
             String::new()
         }
     );
+    for n in &s.notes {
+        let _ = writeln!(
+            out,
+            "<p class=\"meta headline\"><strong>{}</strong></p>",
+            e(n)
+        );
+    }
     if r.is_pnp() {
         out.push_str(
             "<p class=\"meta\">PNP: the numbers are its NPN mirror's; every real voltage and current has the \
@@ -238,21 +260,31 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
                     code(m.ohms),
                     m.tolerance,
                     engineering(m.power.0, "W"),
-                    m.location
-                        .as_deref()
-                        .map(|l| format!(" <span class=\"where\">· {}</span>", e(l)))
-                        .unwrap_or_default()
+                    match m.location.as_deref() {
+                        Some(crate::stock::TO_BUY) =>
+                            " <span class=\"where\">(to buy)</span>".to_string(),
+                        Some(l) => format!(" <span class=\"where\">· {}</span>", e(l)),
+                        None => String::new(),
+                    }
                 )
             })
             .collect();
         let (lo, hi) = net.band();
+        let parts = if s.kept.contains(slot) {
+            format!(
+                "<li class=\"kept\"><strong>already fitted</strong> (kept as given)</li>{parts}"
+            )
+        } else {
+            parts
+        };
         let _ = writeln!(
             out,
-            "<tr><td class=\"box\">☐</td><td class=\"code\">{slot}</td><td class=\"code\">{}</td><td \
+            "<tr><td class=\"box\">{}</td><td class=\"code\">{slot}</td><td class=\"code\">{}</td><td \
              class=\"num\">{}<br><span class=\"where\">{} … {}</span></td><td><ul \
              class=\"parts\">{parts}</ul></td><td>{}</td></tr>",
+            if s.kept.contains(slot) { "✓" } else { "☐" },
             e(&net.notation()),
-            code(net.ohms()),
+            net.value_code(),
             signed_percent(lo),
             signed_percent(hi),
             e(&connect(net)),
@@ -283,7 +315,12 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
         row("RC against RL", code(Ohms(rl)), code(Ohms(rc)), Some(dr));
     }
     if let (Some(g), Some(dg), Some(ac)) = (t.gain, d.gain, &r.ac) {
-        row("gain", trim_number(g, 3), trim_number(ac.gain, 3), Some(dg));
+        let shown = if r.region == "active" {
+            trim_number(ac.gain, 3)
+        } else {
+            "none".to_string()
+        };
+        row("gain", trim_number(g, 3), shown, Some(dg));
     }
     out.push_str("</tbody></table>\n");
 
@@ -440,7 +477,29 @@ pub fn build_sheet(
             p.count
         );
     }
-    out.push_str("</tbody></table>\n</section>\n");
+    out.push_str("</tbody></table>\n");
+    let kept: Vec<String> = stages
+        .iter()
+        .flat_map(|s| {
+            s.kept.iter().filter_map(move |slot| {
+                s.networks.get(*slot).map(|n| {
+                    if stages.len() > 1 {
+                        format!("{} {slot} = {}", s.report.name, n.notation())
+                    } else {
+                        format!("{slot} = {}", n.notation())
+                    }
+                })
+            })
+        })
+        .collect();
+    if !kept.is_empty() {
+        let _ = writeln!(
+            out,
+            "<p class=\"meta kept\">Already fitted (kept as given, not pulled): {}</p>",
+            e(&kept.join(", "))
+        );
+    }
+    out.push_str("</section>\n");
     out.push_str(FOOTER);
     out.push_str("</body>\n</html>\n");
     out

@@ -187,6 +187,11 @@ pub struct SlotReport {
     /// The nearest preferred values (for an ideal design).
     #[serde(skip_serializing_if = "Option::is_none")]
     pub nearest: Option<Nearest>,
+    /// Whether the slot was kept as given (already fitted on the board), not chosen from stock.
+    pub kept: bool,
+    /// The value as people read it: to the digits its members change (165k03 for 165k+27R4).
+    #[serde(skip)]
+    pub shown: String,
 }
 
 /// The slots of a stage, serialised as an object keyed by slot name, in R1, R2, RC, RE, RE1, RE2, RB order.
@@ -338,6 +343,8 @@ fn slot_report(net: &Network) -> SlotReport {
             })
             .collect(),
         nearest: None,
+        kept: false,
+        shown: net.value_code(),
     }
 }
 
@@ -389,9 +396,13 @@ impl StageReport {
                 max_beta: OpReport::from(&stage.solve(&values, b.max, ambient)),
             },
             slots,
+            // A stage far from its target is not passing, whatever else holds (issue 17: a green "all
+            // checks pass" stood beside an error of 30 %). Appended, so the checks the JSON already listed
+            // keep their places.
             checks: stage
                 .checks(nets)
                 .into_iter()
+                .chain(std::iter::once(crate::stage::on_target(d.max_abs())))
                 .map(CheckReport::from)
                 .collect(),
             ac: stage.ac(&values).map(AcReport::from),
@@ -408,6 +419,14 @@ impl StageReport {
                 e24: Series::E24.nearest(r).0,
                 e96: Series::E96.nearest(r).0,
             });
+        }
+        self
+    }
+
+    /// Marks slots as kept: already fitted on the board, so not chosen from stock nor pulled from a drawer.
+    pub fn with_kept(mut self, kept: &[Slot]) -> StageReport {
+        for (slot, s) in &mut self.slots.0 {
+            s.kept = kept.contains(slot);
         }
         self
     }

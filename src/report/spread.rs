@@ -368,6 +368,16 @@ pub fn render_spread(r: &SpreadReport) -> String {
     out
 }
 
+/// The combined yield of a Monte Carlo run in one sentence, for the head of a drawing or a sheet.
+pub fn yield_line(mc: &crate::spread::MonteCarlo) -> String {
+    format!(
+        "IC and VCE both within ±10 % of target in {} of {} builds (both within ±5 %: {})",
+        share(mc.yield_10),
+        histogram::grouped(mc.runs as u64),
+        share(mc.yield_5)
+    )
+}
+
 /// One SVG of every stage's IC and VCE histograms, side by side, a row per stage.
 pub fn render_spread_svg(r: &SpreadReport) -> String {
     let charts: Vec<_> = r
@@ -383,7 +393,11 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
                         unit: "A",
                         target: t.ic,
                     },
-                    format!("{}: IC of {} builds", s.stage.name, mc.runs),
+                    format!(
+                        "{}: IC of {} builds",
+                        s.stage.name,
+                        histogram::grouped(mc.runs as u64)
+                    ),
                 ),
                 (
                     &mc.vce_histogram,
@@ -393,15 +407,21 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
                         target: t.vce,
                     },
                     format!(
-                        "{}: VCE; both within ±10 %: {}",
+                        "{}: VCE of {} builds",
                         s.stage.name,
-                        share(mc.yield_10)
+                        histogram::grouped(mc.runs as u64)
                     ),
                 ),
             ]
         })
         .collect();
-    histogram::render_svg(&charts, 2)
+    // The combined yield concerns both charts of a row, so it heads the row.
+    let headings: Vec<String> = r
+        .stages
+        .iter()
+        .map(|s| format!("{}: {}", s.stage.name, yield_line(&s.spread.monte_carlo)))
+        .collect();
+    histogram::render_svg_headed(&charts, 2, &headings)
 }
 
 /// One circuit's spread: each target's Monte Carlo and worst case, the yield, and what moves each target.

@@ -191,6 +191,11 @@ pub(super) fn checks_grid(checks: &[CheckReport], colour: bool) -> String {
 fn ac_lines(s: &StageReport) -> String {
     match &s.ac {
         None => String::new(),
+        // Outside the active region the small-signal figures mean nothing: no gain, no swing.
+        Some(_) if s.region != "active" => format!(
+            "\n  ac: no gain: the transistor is in {} at typical beta, so the stage does not amplify\n",
+            s.region
+        ),
         Some(a) => format!(
             "\n  ac: re' {}, gain {} into the load, input {}, output {}, swing {} peak\n",
             code(Ohms(a.re_prime)),
@@ -256,17 +261,27 @@ pub fn render_check(r: &Report, colour: bool) -> String {
                         crate::units::Tolerance(p.tolerance),
                         engineering(p.power, "W")
                     );
-                    if let Some(l) = &p.location {
-                        let _ = write!(t, " @{l}");
+                    match p.location.as_deref() {
+                        // A part in a purchase has no drawer yet.
+                        Some(crate::stock::TO_BUY) => t.push_str(" (to buy)"),
+                        Some(l) => {
+                            let _ = write!(t, " @{l}");
+                        }
+                        None => {}
                     }
                     t
                 })
                 .collect::<Vec<_>>()
                 .join(", ");
             let shown = if sr.parts.len() > 1 {
-                format!("{} = {}", sr.network, code(Ohms(sr.ohms)))
+                format!("{} = {}", sr.network, sr.shown)
             } else {
                 sr.network.clone()
+            };
+            let parts = if sr.kept {
+                format!("already fitted (kept): {parts}")
+            } else {
+                parts
             };
             g.row([slot.name().to_string(), shown, parts]);
         }
@@ -310,7 +325,11 @@ pub fn render_check(r: &Report, colour: bool) -> String {
             g.row([
                 "gain".into(),
                 trim_number(gt, 3),
-                trim_number(ac.gain, 3),
+                if s.region == "active" {
+                    trim_number(ac.gain, 3)
+                } else {
+                    "none".to_string()
+                },
                 percent(dg),
             ]);
         }

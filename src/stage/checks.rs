@@ -28,6 +28,25 @@ pub enum CheckUnit {
     Times,
 }
 
+/// The largest error (relative deviation from the targets) a built stage may have and still pass: the
+/// bench's "measured within 10 % of calculated" (common practice, no source; the same band as
+/// `bench::ACCEPTABLE`). A stage further off than this is not reported as passing, whatever its other checks.
+pub const TARGET_ERROR: f64 = 0.10;
+
+/// The check that a built stage lands within [`TARGET_ERROR`] of its targets, from its error.
+pub fn on_target(error: f64) -> Check {
+    // An ideal design is on target up to rounding (2e-16 relative): shown as 0, not 2.22e-14 %.
+    let error = if error.abs() < 1e-9 { 0.0 } else { error };
+    Check {
+        name: "error from targets".to_string(),
+        value: error,
+        limit: TARGET_ERROR,
+        ok: error <= TARGET_ERROR,
+        unit: CheckUnit::Fraction,
+        at_least: false,
+    }
+}
+
 /// One check: a value against a limit.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Check {
@@ -43,6 +62,33 @@ pub struct Check {
     pub unit: CheckUnit,
     /// Whether the value must be at least the limit (else at most).
     pub at_least: bool,
+}
+
+impl Check {
+    /// The check as a phrase: "beta spread 78 % (needs ≤ 25 %)".
+    pub fn describe(&self) -> String {
+        use crate::notation::{engineering, trim_number};
+        let show = |x: f64| match self.unit {
+            CheckUnit::Ratio => format!("{} × IB", trim_number(x, 3)),
+            CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
+            CheckUnit::Amps => engineering(x, "A"),
+            CheckUnit::Volts => engineering(x, "V"),
+            CheckUnit::Watts => engineering(x, "W"),
+            CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
+            CheckUnit::Flag if x >= 1.0 => "met".into(),
+            CheckUnit::Flag => "not met".into(),
+        };
+        if self.unit == CheckUnit::Flag {
+            return format!("{} {}", self.name, show(self.value));
+        }
+        let op = if self.at_least { "≥" } else { "≤" };
+        format!(
+            "{} {} (needs {op} {})",
+            self.name,
+            show(self.value),
+            show(self.limit)
+        )
+    }
 }
 
 /// A network in each slot: what a stage is built from.
@@ -172,6 +218,9 @@ pub(super) fn all(s: &Stage, nets: &SlotNetworks) -> Vec<Check> {
             } else {
                 room.min(0.0)
             };
+            // A saturated Q point sits at VCE = vce_sat up to rounding: its headroom is 0, not -1.75e-15
+            // (and never -0). A nanovolt is far below anything a meter or the model resolves.
+            let room = if room.abs() < 1e-9 { 0.0 } else { room };
             let name = match t {
                 None => format!("headroom at {label}"),
                 Some(t) => format!("headroom at {label}, {t}"),

@@ -49,10 +49,12 @@ fn ac_load(s: &Stage, rc: f64) -> f64 {
     s.load.map_or(rc, |rl| rc * rl.0 / (rc + rl.0))
 }
 
-/// Voltage gain magnitude into the load at an operating point (0 when nothing flows).
+/// Voltage gain magnitude into the load at an operating point: 0 outside the active region, where a
+/// saturated or cut-off transistor amplifies nothing (the small-signal model holds only in the active
+/// region), so a stage off its Q point cannot score its gain target.
 pub(super) fn gain(s: &Stage, r: &Resolved, op: &OperatingPoint) -> f64 {
     let ie = op.ie.0;
-    if ie <= 0.0 {
+    if ie <= 0.0 || op.region != Region::Active {
         return 0.0;
     }
     let re_prime = nvt(s, op.temperature) / ie;

@@ -20,7 +20,7 @@ mod divider_split;
 mod dual_supply;
 pub mod junction;
 
-pub use checks::{Check, CheckUnit, SlotNetworks};
+pub use checks::{on_target, Check, CheckUnit, SlotNetworks, TARGET_ERROR};
 pub use design::{load, parse, Design, DesignError};
 pub use divider_split::AcFigures;
 
@@ -942,9 +942,71 @@ impl Stage {
         checks::all(self, nets)
     }
 
+    /// The checks the ideal design itself fails, each with what would fix it. No choice of resistors can pass
+    /// these (a resistor's own rating aside, which is left out: that depends on the part, not the design),
+    /// so a command says so rather than send the user to buy parts. Empty when the ideal passes, or when
+    /// the rule gives no ideal at all (that is refused where the ideal is needed).
+    pub fn ideal_failures(&self) -> Vec<(Check, &'static str)> {
+        let Ok(ideal) = self.ideal() else {
+            return Vec::new();
+        };
+        let nets = SlotNetworks::from_pairs(ideal.values.iter().map(|(slot, r)| {
+            (
+                slot,
+                crate::network::Network::Single(crate::network::Member::loose(
+                    r,
+                    crate::units::Tolerance(0.05),
+                    Watts(1e6),
+                )),
+            )
+        }));
+        self.checks(&nets)
+            .into_iter()
+            .filter(|c| !c.ok && !c.name.starts_with("power "))
+            .map(|c| {
+                let fix = remedy(self.topology, &c.name);
+                (c, fix)
+            })
+            .collect()
+    }
+
+    /// [`Stage::ideal_failures`] as sentences for people, one per failed check.
+    pub fn ideal_failure_notes(&self) -> Vec<String> {
+        self.ideal_failures()
+            .into_iter()
+            .map(|(c, fix)| {
+                format!(
+                    "stage \"{}\": the ideal design itself fails {}, so no choice of resistors passes it; {}",
+                    self.name,
+                    c.describe(),
+                    fix
+                )
+            })
+            .collect()
+    }
+
     /// Whether the stage's supplies reach 50 V DC, the top of safe extra-low voltage.
     pub fn high_voltage(&self) -> bool {
         self.supply_span() >= crate::units::SAFE_EXTRA_LOW_VOLTAGE
+    }
+}
+
+/// What would pass a check the ideal design fails: a change of rule, topology or transistor, never a part.
+fn remedy(topology: Topology, check: &str) -> &'static str {
+    match check {
+        "beta spread" if topology == Topology::Divider || topology == Topology::DividerSplit => {
+            "a larger emitter resistor (a higher vre in the rule), a stiffer divider, or a wider ic_spread would"
+        }
+        "beta spread" => {
+            "a larger emitter resistor (a higher vre in the rule), a divider topology, or a wider ic_spread would"
+        }
+        "stiffness" => "a lower stiffness or a higher divider_max in the rule, or a transistor with a higher min beta, would",
+        "divider current" => "a higher divider_max or a lower stiffness in the rule would",
+        c if c.starts_with("headroom") => {
+            "a higher supply, or a rule that leaves the transistor more VCE (vce, vrc, vre), would"
+        }
+        c if c.starts_with("transistor") => "a transistor rated for it, or a lower collector current, would",
+        _ => "a different rule, topology or transistor would",
     }
 }
 

@@ -1,8 +1,11 @@
 //! The stock: the resistors on hand, read from a CSV file into validated parts that remember the lines they
 //! came from.
 //!
-//! Columns are found by header name in any order and case (value and qty are required; tolerance, power,
-//! location and note are optional; other columns are kept in the file and ignored). Rows with the same value,
+//! Columns are found by header name in any order and case, under the words people's spreadsheets use for
+//! them ([`SCHEMA`]: `On hand` for qty, `Wattage` for power, `Value (Ω)` with its unit); value and qty are
+//! required; tolerance, power, location and note are optional. Other columns are kept in the file and
+//! ignored, and named in a warning: a rating in a column biasfit did not read would otherwise be replaced
+//! by the default quietly. Rows with the same value,
 //! tolerance and power merge into one [`Part`]. Every bad row is an error naming the file, the line, the
 //! column and the text: nothing is dropped quietly. The CSV reading rules themselves (encoding, comments,
 //! delimiter, quoting) live in [`table`], shared with the other CSV files biasfit reads.
@@ -76,6 +79,12 @@ pub struct Stock {
     pub layout: Layout,
     /// What was assumed for rows that leave tolerance or power blank.
     pub defaults: Defaults,
+    /// How many rows left tolerance blank, and how many power (each given the default).
+    pub defaulted: (usize, usize),
+    /// Header texts of the columns biasfit did not read, in file order.
+    pub ignored: Vec<String>,
+    /// The columns read: biasfit's name and the header text it was found under, in [`SCHEMA`] order.
+    pub header: Vec<(String, String)>,
     /// Things the user should know but that did not stop the load (defaults applied, delimiter guessed).
     pub warnings: Vec<String>,
 }
@@ -108,12 +117,14 @@ pub const SCHEMA: Schema = Schema {
     columns: &[
         Column {
             name: "value",
-            aliases: &["value", "ohms", "resistance"],
+            aliases: &["value", "ohms", "ohm", "resistance", "resistor"],
             required: true,
         },
         Column {
             name: "qty",
-            aliases: &["qty", "quantity"],
+            aliases: &[
+                "qty", "quantity", "pcs", "pieces", "count", "on hand", "in stock", "stock",
+            ],
             required: true,
         },
         Column {
@@ -123,22 +134,33 @@ pub const SCHEMA: Schema = Schema {
         },
         Column {
             name: "power",
-            aliases: &["power", "rating"],
+            aliases: &[
+                "power",
+                "rating",
+                "power rating",
+                "watts",
+                "watt",
+                "wattage",
+            ],
             required: false,
         },
         Column {
             name: "location",
-            aliases: &["location", "bin"],
+            aliases: &["location", "bin", "drawer", "place"],
             required: false,
         },
         Column {
             name: "note",
-            aliases: &["note", "notes"],
+            aliases: &["note", "notes", "comment", "comments"],
             required: false,
         },
     ],
     example_header: "value,qty,tolerance,power,location",
 };
+
+/// The location given to parts that are not in the drawer but in a purchase (`order`): shown as "(to buy)",
+/// never as a drawer label.
+pub const TO_BUY: &str = "to buy";
 
 /// Reads a stock file from disk.
 pub fn load(path: &Path, defaults: Defaults) -> Result<Stock, StockError> {
@@ -150,6 +172,26 @@ pub fn load(path: &Path, defaults: Defaults) -> Result<Stock, StockError> {
 pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, StockError> {
     let table = Table::parse(file, bytes, &SCHEMA)?;
     let mut warnings = table.warnings.clone();
+    let quoted = |names: &[String]| {
+        names
+            .iter()
+            .map(|n| format!("'{}'", crate::notation::excerpt(n)))
+            .collect::<Vec<_>>()
+            .join(", ")
+    };
+    if !table.ignored.is_empty() {
+        warnings.push(format!(
+            "{file}:{}: biasfit does not read the column(s) {}, so they are ignored; it reads {} (see the stock format for the header words each accepts)",
+            table.header.line,
+            quoted(&table.ignored),
+            SCHEMA
+                .columns
+                .iter()
+                .map(|c| c.name)
+                .collect::<Vec<_>>()
+                .join(", ")
+        ));
+    }
     let mut parts: Vec<Part> = Vec::new();
     let mut rows = Vec::with_capacity(table.records.len());
     let mut by_key: HashMap<(u64, u64, u64), usize> = HashMap::new();
@@ -256,18 +298,40 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
             qty_span: table.field(record, "qty").map_or(0..0, |f| f.span.clone()),
         });
     }
+    // A column biasfit did not read may hold what the default stands in for: said beside the default, since
+    // a rating assumed too high lets a part run hot.
+    let unread = |what: &str| {
+        if table.ignored.is_empty() {
+            String::new()
+        } else {
+            format!(
+                "; this may be wrong: if the unread column {} holds the {what}, name its header {what} so it is read",
+                quoted(&table.ignored)
+            )
+        }
+    };
     if no_tolerance > 0 {
         warnings.push(format!(
-            "{file}: {no_tolerance} row(s) give no tolerance; assuming {} (set --default-tolerance)",
-            defaults.tolerance
+            "{file}: {no_tolerance} row(s) give no tolerance; assuming {}{}",
+            defaults.tolerance,
+            unread("tolerance")
         ));
     }
     if no_power > 0 {
         warnings.push(format!(
-            "{file}: {no_power} row(s) give no power rating; assuming {} (set --default-power)",
-            defaults.power
+            "{file}: {no_power} row(s) give no power rating; assuming {}{}",
+            defaults.power,
+            unread("power")
         ));
     }
+    let header = SCHEMA
+        .columns
+        .iter()
+        .filter_map(|c| {
+            let i = *table.layout.columns.get(c.name)?;
+            Some((c.name.to_string(), table.header.fields[i].text.clone()))
+        })
+        .collect();
     Ok(Stock {
         file: file.to_string(),
         parts,
@@ -275,6 +339,9 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         delimiter: table.layout.delimiter,
         layout: table.layout,
         defaults,
+        defaulted: (no_tolerance, no_power),
+        ignored: table.ignored,
+        header,
         warnings,
     })
 }
@@ -302,6 +369,9 @@ impl Stock {
             delimiter: b',',
             layout: Layout::default(),
             defaults: Defaults::default(),
+            defaulted: (0, 0),
+            ignored: Vec::new(),
+            header: Vec::new(),
             warnings: Vec::new(),
         }
     }
@@ -325,7 +395,57 @@ mod tests {
         assert_eq!(s.parts[1].power, Watts(0.125));
         assert_eq!(s.parts[1].location().as_deref(), Some("A2"));
         assert_eq!(s.pieces(), 13);
-        assert!(s.warnings.is_empty());
+        // The colour column is named as unread; nothing was defaulted, so nothing more is said.
+        assert_eq!(s.ignored, ["colour"]);
+        assert_eq!(s.warnings.len(), 1, "{:?}", s.warnings);
+        assert!(s.warnings[0].contains("'colour'"), "{:?}", s.warnings);
+    }
+
+    #[test]
+    fn reads_the_header_words_spreadsheets_use() {
+        let s = load_str(
+            "Value (Ω);On hand;Tol (%);Power [mW];Drawer\n4.7;10;5;125;A1\n;;;;\n2k2;3;1%;0.6W;A2\n",
+        );
+        // "4.7" under "Value (Ω)" is 4.7 Ω; under a kΩ header it would be 4k7.
+        let s = s.unwrap();
+        assert_eq!(s.parts.len(), 2, "the bare-delimiter row is skipped");
+        assert_eq!(s.parts[0].ohms, Ohms(4.7));
+        assert_eq!(s.parts[0].qty, 10);
+        assert_eq!(s.parts[0].tolerance, Tolerance(0.05));
+        assert!((s.parts[0].power.0 - 0.125).abs() < 1e-15);
+        assert!(
+            (s.parts[1].power.0 - 0.6).abs() < 1e-15,
+            "a field's own unit wins"
+        );
+        assert_eq!(s.parts[0].location().as_deref(), Some("A1"));
+        assert!(s.warnings.is_empty(), "{:?}", s.warnings);
+        let s = load_str("Resistance [kΩ],pcs,Wattage\n4.7,1,1/8\n").unwrap();
+        assert_eq!(s.parts[0].ohms, Ohms(4700.0));
+        assert_eq!(s.parts[0].power, Watts(0.125));
+        let err = load_str("value,qty,Power (kW)\n1k,1,1\n")
+            .unwrap_err()
+            .to_string();
+        assert!(
+            err.contains("cannot apply to the power column; expected W or mW"),
+            "{err}"
+        );
+    }
+
+    #[test]
+    fn an_unread_column_is_named_beside_a_defaulted_rating() {
+        let s = load_str("value,qty,Leistung\n1k,1,1/8W\n").unwrap();
+        assert_eq!(s.defaulted, (1, 1));
+        let power = s
+            .warnings
+            .iter()
+            .find(|w| w.contains("no power rating"))
+            .unwrap();
+        assert!(power.contains("may be wrong"), "{power}");
+        assert!(power.contains("'Leistung'"), "{power}");
+        assert!(
+            !power.contains("--"),
+            "no flag in a library message: {power}"
+        );
     }
 
     #[test]
@@ -342,10 +462,10 @@ mod tests {
 
     #[test]
     fn detects_semicolons_and_tabs() {
-        let s = load_str("value;qty;location\n4k7;2;B3\n").unwrap();
+        let s = load_str("value;qty;location;tolerance;power\n4k7;2;B3;5%;1/4W\n").unwrap();
         assert_eq!(s.delimiter, b';');
         assert_eq!(s.parts[0].qty, 2);
-        assert!(s.warnings[0].contains("semicolon"));
+        assert!(s.warnings.is_empty(), "{:?}", s.warnings);
         let s = load_str("value\tqty\n4k7\t2\n").unwrap();
         assert_eq!(s.delimiter, b'\t');
     }
@@ -395,8 +515,8 @@ mod tests {
                 "value,qty\n1k,2,3\n",
                 "test.csv:2: the row has 3 fields but the header has 2",
             ),
-            ("ohm,count\n1k,2\n", "test.csv:1: no 'value' column"),
-            ("value,pieces\n1k,2\n", "test.csv:1: no 'qty' column"),
+            ("ohmage,count\n1k,2\n", "test.csv:1: no 'value' column"),
+            ("value,amount\n1k,2\n", "test.csv:1: no 'qty' column"),
             ("value,qty,Value\n1k,2,1k\n", "names column 'Value' twice"),
             ("", "has no header row"),
             ("# only a comment\n", "has no header row"),

@@ -54,7 +54,11 @@ pub struct Summary {
     pub tolerances: Vec<Mix>,
     /// Pieces per power rating, smallest first.
     pub powers: Vec<Mix>,
-    /// Load warnings (defaults applied, delimiter found).
+    /// The field delimiter read from the header: "comma", "semicolon" or "tab".
+    pub delimiter: &'static str,
+    /// The columns read, as the header names them, by biasfit's name (value, qty, …), in biasfit's order.
+    pub columns: Vec<(String, String)>,
+    /// Load warnings (defaults applied, columns not read).
     pub warnings: Vec<String>,
 }
 
@@ -125,6 +129,12 @@ impl Summary {
                 .count(),
             tolerances: mix(tolerances),
             powers: mix(powers),
+            delimiter: match stock.delimiter {
+                b';' => "semicolon",
+                b'\t' => "tab",
+                _ => "comma",
+            },
+            columns: stock.header.clone(),
             warnings: stock.warnings.clone(),
         }
     }
@@ -148,6 +158,20 @@ impl Summary {
         if let Some((lo, hi)) = self.range {
             let _ = writeln!(out, "  from {} to {}", code(Ohms(lo)), code(Ohms(hi)));
         }
+        // Said here, once, rather than by every command that reads the file.
+        let read = self
+            .columns
+            .iter()
+            .map(|(ours, theirs)| {
+                if ours.eq_ignore_ascii_case(theirs) {
+                    ours.clone()
+                } else {
+                    format!("{ours} ← \"{theirs}\"")
+                }
+            })
+            .collect::<Vec<_>>()
+            .join(", ");
+        let _ = writeln!(out, "  columns read ({}-separated): {read}", self.delimiter);
         let _ = writeln!(out, "\n  decade         values  pieces");
         for d in &self.decades {
             let label = format!("{} – {}", code(Ohms(d.from)), code(Ohms(d.from * 10.0)));

@@ -1,7 +1,10 @@
 //! CSV text as biasfit reads it, shared by every CSV it accepts (the stock, the catalogue, the order list):
 //! UTF-8 with or without a byte-order mark, LF, CRLF or CR-only line ends (old spreadsheet exports) alike,
 //! blank lines and `#` comment lines skipped, the delimiter (comma, semicolon or tab) read from the header
-//! line, and columns found by header name in any order and case.
+//! line, and columns found by header name in any order and case. A header may carry its unit in brackets
+//! (`Value (Ω)`, `Power [mW]`, `Tol (%)`): a bare number under it is read in that unit, and a unit biasfit
+//! cannot apply to the column is refused rather than guessed. A row of bare delimiters (`;;;`, as
+//! spreadsheets write an empty row) is skipped like a blank line.
 //!
 //! Every record is one line (a quoted field may not span lines), and every field remembers the byte range of
 //! its text in the file, so that a command can rewrite one field and keep every other byte as it was. Nothing
@@ -26,7 +29,8 @@ use std::path::Path;
 pub struct Column {
     /// The name biasfit uses for it in messages.
     pub name: &'static str,
-    /// Header names that mean this column, compared without case.
+    /// Header names that mean this column, compared without case after [`header_name`] has dropped a unit
+    /// in brackets, a trailing dot, and `_`/`-` between words.
     pub aliases: &'static [&'static str],
     /// Whether the header must have it.
     pub required: bool,
@@ -126,6 +130,22 @@ pub enum CsvError {
         line: usize,
         /// The repeated column.
         column: String,
+    },
+    /// A header names a known column with a unit in brackets that cannot be applied to it.
+    #[error("{file}:{line}: the header '{header}' gives the unit '{unit}', which biasfit cannot apply to the {column} column; expected {expected}, or no unit in the header and one in each field")]
+    HeaderUnit {
+        /// The file.
+        file: String,
+        /// The header's line.
+        line: usize,
+        /// The header text as found.
+        header: String,
+        /// The unit as found.
+        unit: String,
+        /// The column it names.
+        column: &'static str,
+        /// The units that column accepts.
+        expected: &'static str,
     },
     /// A field could not be read.
     #[error("{file}:{line}: column {column}: {message}")]
@@ -260,8 +280,10 @@ pub struct Table {
     pub records: Vec<Record>,
     /// How the file is laid out.
     pub layout: Layout,
-    /// Things the user should know that did not stop the read (a delimiter other than comma).
+    /// Things the user should know that did not stop the read.
     pub warnings: Vec<String>,
+    /// Header texts of the columns no schema column claims (blank headers left out), in file order.
+    pub ignored: Vec<String>,
 }
 
 /// Reads a file's bytes, naming the file and its kind if that fails.
@@ -361,6 +383,73 @@ fn hidden_column(column: &Column, fields: &[Field]) -> String {
 fn is_skipped(line: &str) -> bool {
     let t = line.trim();
     t.is_empty() || t.starts_with('#')
+}
+
+/// Whether a data line holds only delimiters and spaces (`,,,`, as spreadsheets write an empty row).
+fn is_bare_delimiters(line: &str, delimiter: u8) -> bool {
+    line.bytes()
+        .all(|b| b == delimiter || b == b' ' || b == b'\t')
+}
+
+/// A header cell as compared with the schema's names, and the unit it gives in brackets, if any:
+/// `Value (Ω)` is ("value", Some("Ω")), `On_Hand` is ("on hand", None), `Qty.` is ("qty", None).
+pub fn header_name(text: &str) -> (String, Option<String>) {
+    let t = text.trim();
+    let (name, unit) = match (t.chars().last(), t.rfind(['(', '['])) {
+        (Some(close @ (')' | ']')), Some(open))
+            if (close == ')') == (t.as_bytes()[open] == b'(') =>
+        {
+            let unit = t[open + 1..t.len() - 1].trim();
+            (&t[..open], (!unit.is_empty()).then(|| unit.to_string()))
+        }
+        _ => (t, None),
+    };
+    let name = name
+        .trim()
+        .trim_end_matches('.')
+        .to_lowercase()
+        .replace(['_', '-'], " ");
+    (name.split_whitespace().collect::<Vec<_>>().join(" "), unit)
+}
+
+/// How a bare number under a known column with a unit in its header is read: the suffix that makes the
+/// field say its unit, or None when biasfit cannot apply the unit (with the units it can).
+fn unit_suffix(column: &str, unit: &str) -> Result<&'static str, &'static str> {
+    let lower = unit.to_lowercase();
+    // The SI prefix letters differ only by case (mΩ, MΩ), so the prefix is compared as written.
+    match column {
+        "value" => match unit {
+            "Ω" | "R" | "r" => Ok(""),
+            "kΩ" | "k" | "K" => Ok("k"),
+            "MΩ" | "M" => Ok("M"),
+            _ if ["ohm", "ohms"].contains(&lower.as_str()) => Ok(""),
+            _ if ["kohm", "kohms"].contains(&lower.as_str()) => Ok("k"),
+            _ if unit.starts_with('M') && ["mohm", "mohms"].contains(&lower.as_str()) => Ok("M"),
+            _ => Err("Ω, kΩ or MΩ (or ohm, kohm, Mohm)"),
+        },
+        "power" => match unit {
+            "mW" => Ok("mW"),
+            _ if ["w", "watt", "watts"].contains(&lower.as_str()) => Ok("W"),
+            _ => Err("W or mW"),
+        },
+        "tolerance" => match unit {
+            "%" | "±%" | "+/-%" => Ok("%"),
+            _ => Err("%"),
+        },
+        "qty" => match lower.as_str() {
+            "pcs" | "pc" | "pieces" | "pcs." | "count" => Ok(""),
+            _ => Err("pcs"),
+        },
+        _ => Ok(""),
+    }
+}
+
+/// Whether a field is a bare number (digits with at most one point), the only text a header unit applies to.
+fn is_bare_number(text: &str) -> bool {
+    !text.is_empty()
+        && text.bytes().any(|b| b.is_ascii_digit())
+        && text.bytes().all(|b| b.is_ascii_digit() || b == b'.')
+        && text.bytes().filter(|&b| b == b'.').count() <= 1
 }
 
 /// Finds the delimiter from the header line: the most frequent of comma, semicolon and tab.
@@ -496,29 +585,23 @@ impl Table {
             });
         };
         let delimiter = detect_delimiter(header_text);
-        let mut warnings = Vec::new();
-        if delimiter != b',' {
-            let name = if delimiter == b';' {
-                "semicolon"
-            } else {
-                "tab"
-            };
-            warnings.push(format!(
-                "{file}: fields are separated by {name}s (found in the header line)"
-            ));
-        }
+        // The delimiter is no warning: it is read from the header and kept when the file is rewritten; the
+        // stock summary names it once, rather than every command that reads the file.
+        let warnings = Vec::new();
         let header = Record {
             line: header_line,
             fields: split_line(header_text, header_at, delimiter)
                 .map_err(|m| row_error(header_line, format!("the header cannot be read: {m}")))?,
         };
         let mut columns: HashMap<&'static str, usize> = HashMap::new();
+        let mut suffixes: Vec<(usize, &'static str)> = Vec::new();
+        let mut ignored = Vec::new();
         for (i, field) in header.fields.iter().enumerate() {
-            let lower = field.text.to_lowercase();
+            let (name, unit) = header_name(&field.text);
             if let Some(column) = schema
                 .columns
                 .iter()
-                .find(|c| c.aliases.contains(&lower.as_str()))
+                .find(|c| c.aliases.contains(&name.as_str()))
             {
                 if columns.insert(column.name, i).is_some() {
                     return Err(CsvError::DuplicateColumn {
@@ -527,6 +610,24 @@ impl Table {
                         column: field.text.clone(),
                     });
                 }
+                if let Some(unit) = unit {
+                    match unit_suffix(column.name, &unit) {
+                        Ok("") => {}
+                        Ok(suffix) => suffixes.push((i, suffix)),
+                        Err(expected) => {
+                            return Err(CsvError::HeaderUnit {
+                                file: file.to_string(),
+                                line: header_line,
+                                header: field.text.clone(),
+                                unit,
+                                column: column.name,
+                                expected,
+                            })
+                        }
+                    }
+                }
+            } else if !field.text.is_empty() {
+                ignored.push(field.text.clone());
             }
         }
         for column in schema.columns.iter().filter(|c| c.required) {
@@ -560,8 +661,20 @@ impl Table {
         let width = header.fields.len();
         let mut records = Vec::with_capacity(lines.len().saturating_sub(1));
         for &(line, at, content, _) in &lines[1..] {
-            let fields = split_line(content, at, delimiter)
+            if is_bare_delimiters(content, delimiter) {
+                continue;
+            }
+            let mut fields = split_line(content, at, delimiter)
                 .map_err(|m| row_error(line, format!("the row cannot be read: {m}")))?;
+            // A bare number under `Power [mW]` is read as mW: the text says its unit, the span stays on
+            // the file's bytes.
+            for &(i, suffix) in &suffixes {
+                if let Some(f) = fields.get_mut(i) {
+                    if is_bare_number(&f.text) {
+                        f.text.push_str(suffix);
+                    }
+                }
+            }
             if fields.len() > width {
                 return Err(row_error(
                     line,
@@ -587,6 +700,7 @@ impl Table {
                 columns,
             },
             warnings,
+            ignored,
         })
     }
 

@@ -57,6 +57,8 @@ pub struct LoadLine {
     pub ac: Option<AcLine>,
     /// Monte Carlo operating points (VCE, IC), if any.
     pub cloud: Vec<(Volts, Amps)>,
+    /// How many simulated builds the cloud was taken from (0 without a cloud).
+    pub cloud_of: usize,
 }
 
 impl LoadLine {
@@ -104,11 +106,14 @@ impl LoadLine {
             q,
             ac,
             cloud: Vec::new(),
+            cloud_of: 0,
         }
     }
 
-    /// The same drawing with a Monte Carlo cloud of (VCE, IC) operating points.
-    pub fn with_cloud(mut self, points: &[(Volts, Amps)]) -> LoadLine {
+    /// The same drawing with a Monte Carlo cloud of (VCE, IC) operating points, taken from `of` simulated
+    /// builds (more than the points when the cloud is a sample of a larger run, which the legend then says).
+    pub fn with_cloud(mut self, points: &[(Volts, Amps)], of: usize) -> LoadLine {
+        self.cloud_of = of.max(points.len());
         self.cloud = points
             .iter()
             .filter(|(v, i)| v.0.is_finite() && i.0.is_finite())
@@ -398,7 +403,18 @@ pub fn render(l: &LoadLine) -> String {
             y,
             Anchor::Start,
             "legend",
-            &format!("Monte Carlo: {} simulated builds", l.cloud.len()),
+            &if l.cloud_of > l.cloud.len() {
+                format!(
+                    "Monte Carlo: a sample of {} of {} simulated builds",
+                    crate::report::histogram::grouped(l.cloud.len() as u64),
+                    crate::report::histogram::grouped(l.cloud_of as u64)
+                )
+            } else {
+                format!(
+                    "Monte Carlo: {} simulated builds",
+                    crate::report::histogram::grouped(l.cloud.len() as u64)
+                )
+            },
         );
     }
     c.finish(&format!("DC load line of {}", l.name), STYLE)
@@ -502,7 +518,7 @@ mod tests {
                 (Volts(7.0), Amps(f64::INFINITY)),
             ])
             .collect();
-        let l = LoadLine::of(&st, &v).with_cloud(&pts);
+        let l = LoadLine::of(&st, &v).with_cloud(&pts, 500);
         assert_eq!(l.cloud.len(), 50);
         let svg = render(&l);
         let doc = roxmltree::Document::parse(&svg).unwrap();
@@ -519,7 +535,10 @@ mod tests {
         );
         let text: String = doc.descendants().filter_map(|n| n.text()).collect();
         assert!(text.contains("cutoff end: 15 V"), "{text}");
-        assert!(text.contains("50 simulated builds"), "{text}");
+        assert!(
+            text.contains("a sample of 50 of 500 simulated builds"),
+            "{text}"
+        );
         for label in ["min", "typical", "max"] {
             assert!(text.contains(&format!("Q at {label} beta")), "{label}");
         }
