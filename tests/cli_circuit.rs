@@ -314,13 +314,13 @@ fn the_docs_show_real_circuit_output() {
         (
             vec![
                 "verify",
-                "examples/starters/tail-pair.toml",
+                "examples/starters/mosfet-divider.toml",
                 "--use",
-                "RT=7k5",
+                "R1=3M3,R2=1M2",
                 "--measured",
-                "c1=3.2",
+                "d=12.6",
             ],
-            "$ biasfit verify examples/starters/tail-pair.toml --use RT=7k5 --measured c1=3.2\n",
+            "$ biasfit verify examples/starters/mosfet-divider.toml --use R1=3M3,R2=1M2 --measured d=12.6\n",
         ),
         (vec!["new"], "$ biasfit new\n"),
     ] {
