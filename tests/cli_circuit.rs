@@ -97,16 +97,21 @@ fn a_network_in_a_slot_shares_its_power_by_member() {
     let c = &v["circuits"][0];
     assert_eq!(c["parts"]["R1"]["ohms"].as_f64(), Some(500.0));
     assert_eq!(c["parts"]["R1"]["parts"].as_array().map(Vec::len), Some(2));
-    let power = c["checks"]
-        .as_array()
-        .unwrap()
+    // Each member is checked against its own derated rating (50 %), carrying half the power.
+    let checks = c["checks"].as_array().unwrap();
+    let members: Vec<&Value> = checks
         .iter()
-        .find(|k| k["name"] == "power R1")
-        .unwrap();
-    assert!(
-        close(power["limit"].as_f64().unwrap(), 0.25, 1e-12),
-        "{power}"
-    );
+        .filter(|k| k["name"].as_str().unwrap().starts_with("power R1 part "))
+        .collect();
+    assert_eq!(members.len(), 2, "{checks:?}");
+    for m in members {
+        assert!((m["limit"].as_f64().unwrap() - 0.125).abs() < 1e-12, "{m}");
+        let half = c["parts"]["R1"]["power"].as_f64().unwrap() / 2.0;
+        assert!(
+            (m["value"].as_f64().unwrap() - half).abs() < 1e-12 * half,
+            "{m}"
+        );
+    }
 }
 
 #[test]
@@ -337,4 +342,43 @@ fn the_docs_show_real_circuit_output() {
         docs.contains(&format!("```toml\n{led}```")),
         "README's LED string differs from the starter"
     );
+}
+
+#[test]
+fn a_switch_left_off_fails_its_overdrive_and_fixed_parts_are_power_checked() {
+    // RB open (1 GΩ): Q1 is off, so it has no overdrive at all; the check fails rather than reading ∞.
+    let out = biasfit(&[
+        "check",
+        "examples/starters/switch.toml",
+        "--use",
+        "RB=1G",
+        "--json",
+    ]);
+    assert_eq!(out.status.code(), Some(1), "{}", stderr(&out));
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let checks = v["circuits"][0]["checks"].as_array().unwrap().clone();
+    let od = checks.iter().find(|k| k["name"] == "overdrive Q1").unwrap();
+    assert_eq!(
+        (od["value"].as_f64(), od["ok"].as_bool()),
+        (Some(0.0), Some(false)),
+        "{od}"
+    );
+    // The tail pair's fixed collector resistors give no rating: they are checked as the assumed 250 mW
+    // parts at the 50 % derating (common practice, no source), as slots' parts are.
+    let out = biasfit(&[
+        "check",
+        "examples/starters/tail-pair.toml",
+        "--use",
+        "RT=7k5",
+        "--json",
+    ]);
+    let v: Value = serde_json::from_slice(&out.stdout).unwrap();
+    let rc1 = v["circuits"][0]["checks"]
+        .as_array()
+        .unwrap()
+        .iter()
+        .find(|k| k["name"] == "power RC1")
+        .cloned()
+        .expect("a power check on the fixed RC1");
+    assert_eq!(rc1["limit"].as_f64(), Some(0.125));
 }

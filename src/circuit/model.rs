@@ -717,6 +717,24 @@ impl Circuit {
         })
     }
 
+    /// The circuit with every fixed resistor that gives no rating or tolerance taking these, as slots'
+    /// parts given by value alone do, so that its dissipation is checked too.
+    pub fn with_assumed_parts(&self, tolerance: Tolerance, power: Watts) -> Circuit {
+        let mut c = self.clone();
+        for p in &mut c.parts {
+            if let Kind::Resistor {
+                value: Some(_),
+                power: pw,
+                tolerance: tol,
+            } = &mut p.kind
+            {
+                pw.get_or_insert(power);
+                tol.get_or_insert(tolerance);
+            }
+        }
+        c
+    }
+
     /// The build at typical parameters and ambient: the one the error is measured at.
     pub fn typical(&self, slots: &[Ohms]) -> Result<Build, ModelError> {
         self.build(slots, Pick::Typ, self.limits.ambient)

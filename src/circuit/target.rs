@@ -202,10 +202,12 @@ impl Circuit {
                     let at_min = solver.solve(&b, options)?;
                     let ib = at_min.parts[*part].base_current.0.abs();
                     let ic = at_min.parts[*part].current.0.abs();
-                    let ratio = if ic > 0.0 {
+                    // A switch that does not conduct has no overdrive: it is off, which fails.
+                    let on = at_min.parts[*part].region == Some(super::Region::Saturation);
+                    let ratio = if on && ic > 0.0 {
                         ib * beta_min / ic
                     } else {
-                        f64::INFINITY
+                        0.0
                     };
                     out.push(check(
                         format!("overdrive {}", self.parts[*part].name),

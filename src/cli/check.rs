@@ -286,6 +286,7 @@ fn check_circuit(
     outputs: &super::output::Outputs,
     out: &mut Out,
 ) -> Result<(), Failure> {
+    let c = &c.with_assumed_parts(tol, watts);
     let nets = circuit_networks(c, &args.slots, tol, watts)?;
     if args.drawings.svg.is_some() {
         return Err(Failure::Input(format!(

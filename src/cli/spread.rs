@@ -239,6 +239,7 @@ fn spread_circuit(
         )));
     }
     let (tol, watts) = args.parts.resolve()?;
+    let c = &c.with_assumed_parts(tol, watts);
     let nets = super::check::circuit_networks(c, &args.slots, tol, watts)?;
     let opts = Options {
         runs: args.runs,

@@ -102,6 +102,7 @@ fn verify_circuit(
     let readings = parse_readings(c, &args.measured)
         .map_err(|e| Failure::Input(format!("--measured: {e}")))?;
     let (tol, watts) = args.parts.resolve()?;
+    let c = &c.with_assumed_parts(tol, watts);
     let nets = super::check::circuit_networks(c, &args.slots, tol, watts)?;
     let progress = super::output::Progress::start("simulating faults", None);
     let v = verify_circuit(c, &nets, &readings)

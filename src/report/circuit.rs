@@ -122,12 +122,37 @@ impl CircuitReport {
         let build = c.typical(&ohms)?;
         let s = Solver::new(c).solve(&build, &options)?;
         // The latch search has run once above; the checks' corner solves need not repeat it.
-        let checks = c
-            .checks(&ohms, &ratings, &Options { check_latch: false })?
-            .into_iter()
-            .map(CheckReport::from)
-            .collect();
         let slots = c.slots();
+        let mut checks = Vec::new();
+        for k in c.checks(&ohms, &ratings, &Options { check_latch: false })? {
+            // A network's power is checked member by member, as a stage's is: each part against its own
+            // derated rating, named by its place in the network.
+            let net = slots.iter().zip(nets).find(|(&i, n)| {
+                n.part_count() > 1 && k.name == format!("power {}", c.parts[i].name)
+            });
+            match net {
+                Some((&i, n)) => {
+                    let powers = n.member_powers(s.parts[i].current);
+                    for (m, (member, w)) in n.members().iter().zip(powers).enumerate() {
+                        let limit = member.power.0 * c.limits.derate;
+                        checks.push(CheckReport {
+                            name: format!(
+                                "power {} part {} ({})",
+                                c.parts[i].name,
+                                m + 1,
+                                crate::notation::code(member.ohms)
+                            ),
+                            value: w.0,
+                            limit,
+                            ok: w.0 <= limit * (1.0 + 1e-9),
+                            unit: CheckUnit::Watts,
+                            at_least: false,
+                        });
+                    }
+                }
+                None => checks.push(CheckReport::from(k)),
+            }
+        }
         let nodes = Named(
             c.nodes
                 .iter()

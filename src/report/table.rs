@@ -109,6 +109,12 @@ pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
     if !x.is_finite() {
         return "∞".into();
     }
+    // A femtowatt or femtoampere is rounding residue, not a reading.
+    let x = if matches!(c.unit, CheckUnit::Amps | CheckUnit::Watts) && x.abs() < 1e-15 {
+        0.0
+    } else {
+        x
+    };
     match c.unit {
         CheckUnit::Ratio => format!("{} × IB", trim_number(x, 3)),
         CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
@@ -408,10 +414,13 @@ fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
         out.push_str(&g.render("  "));
     }
 
+    // Rounding residue (1e-16 V on a node that sits at 0 V) is shown as 0, as a meter would.
+    let scale = c.nodes.0.iter().fold(1.0_f64, |m, (_, v)| m.max(v.abs()));
+    let clean = |x: f64, floor: f64| if x.abs() < floor { 0.0 } else { x };
     let mut g = Grid::new(1);
     g.row(["node", "from ground"]);
     for (name, v) in &c.nodes.0 {
-        g.row([name.clone(), volts(*v)]);
+        g.row([name.clone(), volts(clean(*v, 1e-12 * scale))]);
     }
     out.push('\n');
     out.push_str(&g.render("  "));
@@ -427,9 +436,9 @@ fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
             name.clone(),
             kind,
             p.region.unwrap_or("").to_string(),
-            amps(p.current),
-            volts(p.across),
-            engineering(p.power, "W"),
+            amps(clean(p.current, 1e-15)),
+            volts(clean(p.across, 1e-12 * scale)),
+            engineering(clean(p.power, 1e-15), "W"),
         ]);
     }
     out.push('\n');
