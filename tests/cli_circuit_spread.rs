@@ -156,3 +156,35 @@ fn spread_text_names_the_rule_and_a_circuit_without_targets_is_refused() {
         stderr(&out)
     );
 }
+
+#[test]
+fn a_switch_spread_counts_the_builds_that_saturate_as_the_beta_distribution_says() {
+    // RB = 6k8 from the 3.3 V logic: IB = (3.3 − 0.7)/6800 − 0.7/10k = 312.4 µA against IC = (12 − 0.2)/400
+    // = 29.5 mA, so a build saturates when its beta is at least IC/IB = 94.4, and is overdriven twice when
+    // at least 188.9. Beta is drawn uniform on min..typ (60..150) half the time and on typ..max (150..300)
+    // the other half, so P(saturation) = ½·(150 − 94.4)/90 + ½ and P(overdrive ≥ 2) = ½·(300 − 188.9)/150.
+    // Parts at 0.1 % so that resistor spread barely moves the edges; four standard errors of 20 000 builds.
+    let v = spread(&[
+        "examples/starters/switch.toml",
+        "--use",
+        "RB=6k8",
+        "--tolerance",
+        "0.1%",
+    ]);
+    let sp = &v["circuits"][0]["spread"];
+    let ib = (3.3 - 0.7) / 6800.0 - 0.7 / 10_000.0;
+    let ic = (12.0 - 0.2) / 400.0;
+    let sat = 0.5 * (150.0 - ic / ib) / 90.0 + 0.5;
+    let od = 0.5 * (300.0 - 2.0 * ic / ib) / 150.0;
+    let se = |p: f64| 4.0 * (p * (1.0 - p) / 20_000.0).sqrt() + 0.003;
+    let req = sp["requirements"].as_array().unwrap();
+    let got_sat = req[0]["met"].as_f64().unwrap();
+    let got_od = req[1]["met"].as_f64().unwrap();
+    assert_eq!(req[0]["what"].as_str(), Some("Q1 saturation"));
+    assert!(
+        (got_sat - sat).abs() < se(sat),
+        "saturation {got_sat} vs {sat}"
+    );
+    assert!((got_od - od).abs() < se(od), "overdrive {got_od} vs {od}");
+    assert_eq!(sp["requirements_met"].as_f64(), Some(got_od));
+}

@@ -20,7 +20,8 @@ use std::path::PathBuf;
 pub struct CheckArgs {
     /// The design file (TOML)
     pub file: PathBuf,
-    /// The networks, as SLOT=NETWORK pairs joined by commas: R1=15k,R2=3k3,RC=2k2,RE=(220+47)|1k
+    /// The networks, as SLOT=NETWORK pairs joined by commas: R1=15k,R2=3k3,RC=2k2,RE=(220+47)|1k (a
+    /// circuit's slots by their names)
     #[arg(long = "use", value_name = "SLOTS", required = true)]
     pub slots: Vec<String>,
     /// The stage or circuit to check (its name, or its number from 1, stages first); needed when the file

@@ -37,13 +37,15 @@ enum Command {
     Order(order::OrderArgs),
     /// The best one-, two- or three-resistor networks from stock for one value
     Fix(fix::FixArgs),
-    /// Evaluate a stage built from given networks: the exact operating point and every check
+    /// Evaluate a stage or circuit built from given networks: the exact operating point and every check
     Check(check::CheckArgs),
     /// Print the continuous design from a design file's rule, with the nearest E12, E24 and E96 values
     Ideal(ideal::IdealArgs),
-    /// What tolerance, beta and temperature do to a built stage: worst case, Monte Carlo, sensitivities
+    /// What tolerance, device ranges and temperature do to a built stage or circuit: worst case, Monte
+    /// Carlo, sensitivities
     Spread(spread::SpreadArgs),
-    /// Compare bench readings (VB, VE, VC) with the design and rank the build faults that explain them
+    /// Compare bench readings (VB, VE, VC; a circuit's by node name) with the design and rank the build
+    /// faults that explain them
     Verify(verify::VerifyArgs),
     /// List the starter design files, or write one to begin a design from
     New(new::NewArgs),

@@ -37,12 +37,13 @@ pub struct SpreadArgs {
     /// A design result to read the networks from (what biasfit design --json writes)
     #[arg(long, value_name = "FILE")]
     pub result: Option<PathBuf>,
-    /// The stage (its name, or its number from 1); needed with --use when the file has several
-    #[arg(long, value_name = "NAME")]
+    /// The stage or circuit (its name, or its number from 1, stages first); needed with --use when the
+    /// file has several
+    #[arg(long, visible_alias = "circuit", value_name = "NAME")]
     pub stage: Option<String>,
     #[command(flatten)]
     pub parts: PartArgs,
-    /// Monte Carlo builds per stage
+    /// Monte Carlo builds per stage or circuit
     #[arg(long, value_name = "N", default_value_t = 20_000, allow_negative_numbers = true,
           value_parser = whole::<usize>(1, MAX_RUNS as u64, "a number of builds"))]
     pub runs: usize,

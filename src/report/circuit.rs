@@ -30,6 +30,9 @@ impl<T: Serialize> Serialize for Named<T> {
 pub struct CircuitPartReport {
     /// Its kind as written in the file ("resistor", "npn", "led").
     pub kind: &'static str,
+    /// The nodes its pins are on, in the order of its kind's pins (a resistor's `between`; collector,
+    /// base, emitter; anode, cathode; ...).
+    pub connects: Vec<String>,
     /// Amperes: collector or drain current for a transistor, else the current from its first pin to its
     /// second (a zener's reverse current; an op-amp's or reference's output current).
     pub current: f64,
@@ -175,6 +178,7 @@ impl CircuitReport {
                     };
                     let report = CircuitPartReport {
                         kind: p.kind.name(),
+                        connects: p.pins.iter().map(|&n| c.nodes[n].clone()).collect(),
                         current: st.current.0,
                         power: st.power.0,
                         region: st.region.map(|r| r.name()),

@@ -548,11 +548,12 @@ pub fn circuit_sheet(
         }
     );
     out.push_str(
-        "<h3>Parts to fit</h3>\n<table><thead><tr><th>slot</th><th>network</th><th class=\"num\">ohms</th>\
-         <th>parts</th></tr></thead><tbody>\n",
+        "<h3>Parts to fit</h3>\n<p class=\"meta\">every part of the circuit, where it goes; tick each as you fit \
+         it</p>\n<table><thead><tr><th></th><th>part</th><th>kind</th><th>value or network</th><th>parts</th>\
+         <th>connects</th></tr></thead><tbody>\n",
     );
-    for (name, p) in c.parts.0.iter().filter(|(_, p)| p.network.is_some()) {
-        let parts = p
+    for (name, p) in &c.parts.0 {
+        let members = p
             .parts
             .as_deref()
             .unwrap_or_default()
@@ -572,13 +573,22 @@ pub fn circuit_sheet(
             })
             .collect::<Vec<_>>()
             .join(", ");
+        let value = match (&p.network, p.ohms) {
+            (Some(n), _) => e(n),
+            (None, Some(o)) => code(Ohms(o)),
+            _ => String::new(),
+        };
+        let kind = if p.network.is_some() {
+            "slot (from stock)".to_string()
+        } else {
+            e(p.kind)
+        };
         let _ = writeln!(
             out,
-            "<tr><td>{}</td><td>{}</td><td class=\"num\">{}</td><td>{}</td></tr>",
+            "<tr><td class=\"box\">☐</td><td class=\"code\">{}</td><td>{kind}</td><td class=\"code\">{value}</td>\
+             <td>{members}</td><td>{}</td></tr>",
             e(name),
-            e(p.network.as_deref().unwrap_or("")),
-            code(Ohms(p.ohms.unwrap_or(f64::NAN))),
-            parts
+            e(&p.connects.join(" – "))
         );
     }
     out.push_str("</tbody></table>\n");

@@ -475,6 +475,19 @@ fn circuit_spread(c: &SpreadCircuit) -> String {
         share(sp.yield_10),
         share(sp.yield_5)
     );
+    if let Some(all) = sp.requirements_met {
+        let each: Vec<String> = sp
+            .requirements
+            .iter()
+            .map(|r| format!("{} {}", r.what, share(r.met)))
+            .collect();
+        let _ = writeln!(
+            out,
+            "  every requirement met (each build with its own parts): {} of builds ({})",
+            share(all),
+            each.join("; ")
+        );
+    }
     if sp.unsolved > 0 {
         let _ = writeln!(
             out,

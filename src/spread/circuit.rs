@@ -42,6 +42,15 @@ pub struct TargetSpread {
     pub amps: bool,
 }
 
+/// One requirement over the builds.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct RequirementSpread {
+    /// The requirement in words ("Q1 saturation", "overdrive Q1 ≥ 2 ×").
+    pub what: String,
+    /// The fraction of builds meeting it.
+    pub met: f64,
+}
+
 /// How much one part moves each target.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct PartSensitivity {
@@ -76,6 +85,10 @@ pub struct CircuitSpread {
     pub yield_5: f64,
     /// Builds for which no operating point was found.
     pub unsolved: usize,
+    /// Each requirement of the circuit: the fraction of builds meeting it, with that build's own parameters.
+    pub requirements: Vec<RequirementSpread>,
+    /// The fraction of builds meeting every requirement; None when the circuit states none.
+    pub requirements_met: Option<f64>,
     /// Each resistor's and each ranged device's effect on the targets.
     pub sensitivities: Vec<PartSensitivity>,
 }
@@ -288,22 +301,28 @@ pub fn spread_circuit(
     let ambient = c.limits.ambient;
     let mut solver = Solver::new(c);
     let quiet = SolveOptions { check_latch: false };
-    let mut measure = |d: &Draw| -> Option<Vec<f64>> {
+    // Each build's targets, and whether it meets each requirement with its own parameters.
+    let mut judge = |d: &Draw| -> Option<(Vec<f64>, Vec<bool>)> {
         let build = b.build(d)?;
         let s = solver.solve(&build, &quiet).ok()?;
-        Some(
-            c.targets
-                .iter()
-                .map(|t| c.measure(t.quantity, &s))
-                .collect(),
-        )
+        let values = c
+            .targets
+            .iter()
+            .map(|t| c.measure(t.quantity, &s))
+            .collect();
+        let held = c
+            .requirements
+            .iter()
+            .map(|r| requirement_holds(r, &build, &s))
+            .collect();
+        Some((values, held))
     };
     let centre = Draw {
         resistors: vec![0.0; nr],
         devices: vec![0.5; nd],
         temperature: ambient,
     };
-    let nominal = match measure(&centre) {
+    let nominal = match judge(&centre).map(|(v, _)| v) {
         Some(v) => v,
         None => {
             // Say why, in the engine's words.
@@ -322,6 +341,8 @@ pub fn spread_circuit(
     };
 
     // Monte Carlo at the bench.
+    let mut met = vec![0usize; c.requirements.len()];
+    let mut all_met = 0usize;
     let n_targets = c.targets.len();
     let mut rng = Rng::seeded(options.seed);
     let mut samples: Vec<Vec<f64>> = vec![Vec::with_capacity(options.runs); n_targets];
@@ -339,10 +360,14 @@ pub fn spread_circuit(
         for x in d.devices.iter_mut() {
             *x = rng.uniform();
         }
-        let Some(values) = measure(&d) else {
+        let Some((values, held)) = judge(&d) else {
             unsolved += 1;
             continue;
         };
+        for (m, h) in met.iter_mut().zip(&held) {
+            *m += usize::from(*h);
+        }
+        all_met += usize::from(held.iter().all(|h| *h));
         let (mut ok10, mut ok5) = (true, true);
         for (k, v) in values.iter().enumerate() {
             samples[k].push(*v);
@@ -392,7 +417,7 @@ pub fn spread_circuit(
             up.resistors[k] = NUDGE;
             down.resistors[k] = -NUDGE;
         }
-        let effect = match (measure(&up), measure(&down)) {
+        let effect = match (judge(&up).map(|(v, _)| v), judge(&down).map(|(v, _)| v)) {
             (Some(u), Some(w)) => (0..n_targets)
                 .map(|t| (u[t] - w[t]) / (2.0 * NUDGE * nominal[t]))
                 .collect(),
@@ -423,7 +448,7 @@ pub fn spread_circuit(
         };
         low.devices[k] = 0.0;
         high.devices[k] = 1.0;
-        let effect = match (measure(&high), measure(&low)) {
+        let effect = match (judge(&high).map(|(v, _)| v), judge(&low).map(|(v, _)| v)) {
             (Some(u), Some(w)) => (0..n_targets).map(|t| (u[t] - w[t]) / nominal[t]).collect(),
             _ => vec![f64::NAN; n_targets],
         };
@@ -459,7 +484,7 @@ pub fn spread_circuit(
             }
             for temp in [lo, ambient, hi] {
                 corner.temperature = temp;
-                if let Some(v) = measure(&corner) {
+                if let Some(v) = judge(&corner).map(|(v, _)| v) {
                     low_high = (low_high.0.min(v[t]), low_high.1.max(v[t]));
                 }
             }
@@ -468,6 +493,15 @@ pub fn spread_circuit(
     }
 
     let runs = options.runs as f64;
+    let requirements = c
+        .requirements
+        .iter()
+        .zip(&met)
+        .map(|(r, m)| RequirementSpread {
+            what: describe_requirement(c, r),
+            met: *m as f64 / runs,
+        })
+        .collect();
     let targets = c
         .targets
         .iter()
@@ -504,6 +538,73 @@ pub fn spread_circuit(
         yield_10: all10 as f64 / runs,
         yield_5: all5 as f64 / runs,
         unsolved,
+        requirements,
+        requirements_met: if c.requirements.is_empty() {
+            None
+        } else {
+            Some(all_met as f64 / runs)
+        },
         sensitivities: sens,
     })
+}
+
+/// A requirement in words: "Q1 saturation", "overdrive Q1 ≥ 2".
+fn describe_requirement(c: &Circuit, r: &crate::circuit::Requirement) -> String {
+    use crate::circuit::Requirement;
+    match r {
+        Requirement::Region { part, allowed } => format!(
+            "{} {}",
+            c.parts[*part].name,
+            allowed
+                .iter()
+                .map(|x| x.name())
+                .collect::<Vec<_>>()
+                .join(" or ")
+        ),
+        Requirement::MinCurrent { part, amps } => format!(
+            "current {} ≥ {}",
+            c.parts[*part].name,
+            crate::notation::engineering(amps.0, "A")
+        ),
+        Requirement::Stiff { part, over, times } => format!(
+            "stiffness {} over {} ≥ {} × IB",
+            c.parts[*part].name,
+            c.parts[*over].name,
+            crate::notation::trim_number(*times, 3)
+        ),
+        Requirement::Overdrive { part, times } => format!(
+            "overdrive {} ≥ {} ×",
+            c.parts[*part].name,
+            crate::notation::trim_number(*times, 3)
+        ),
+    }
+}
+
+/// Whether a requirement holds in one build, judged with that build's own parameters (its own beta, not
+/// the range's minimum: the question is how many real boards meet it).
+fn requirement_holds(
+    r: &crate::circuit::Requirement,
+    build: &Build,
+    s: &crate::circuit::Solution,
+) -> bool {
+    use crate::circuit::{Region, Requirement};
+    match r {
+        Requirement::Region { part, allowed } => {
+            s.parts[*part].region.is_some_and(|x| allowed.contains(&x))
+        }
+        Requirement::MinCurrent { part, amps } => s.parts[*part].current.0.abs() >= amps.0,
+        Requirement::Stiff { part, over, times } => {
+            s.parts[*part].current.0.abs() >= times * s.parts[*over].base_current.0.abs()
+        }
+        Requirement::Overdrive { part, times } => {
+            let p = &s.parts[*part];
+            let beta = match build.elements[*part] {
+                Element::Bjt(q) => q.beta,
+                _ => return false,
+            };
+            p.region == Some(Region::Saturation)
+                && p.current.0 > 0.0
+                && p.base_current.0.abs() * beta / p.current.0 >= *times
+        }
+    }
 }
