@@ -238,18 +238,11 @@ fn solve(
 mod tests {
     use super::*;
 
-    /// A tiny deterministic generator (SplitMix64) so that random cases repeat exactly.
-    struct Rng(u64);
+    /// The crate's SplitMix64, so that random cases repeat exactly.
+    struct Rng(crate::spread::rng::SplitMix64);
     impl Rng {
-        fn next(&mut self) -> u64 {
-            self.0 = self.0.wrapping_add(0x9E37_79B9_7F4A_7C15);
-            let mut z = self.0;
-            z = (z ^ (z >> 30)).wrapping_mul(0xBF58_476D_1CE4_E5B9);
-            z = (z ^ (z >> 27)).wrapping_mul(0x94D0_49BB_1331_11EB);
-            z ^ (z >> 31)
-        }
         fn below(&mut self, n: u64) -> u64 {
-            self.next() % n
+            self.0.next_u64() % n
         }
     }
 
@@ -310,7 +303,7 @@ mod tests {
 
     #[test]
     fn equals_exhaustive_search_on_random_small_cases() {
-        let mut rng = Rng(2026);
+        let mut rng = Rng(crate::spread::rng::SplitMix64::new(2026));
         let mut checked = 0;
         for case in 0..120 {
             let stages = 1 + rng.below(2) as usize;

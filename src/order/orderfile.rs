@@ -36,23 +36,29 @@ pub struct OrderLine {
 /// The header line of an order file.
 pub const HEADER: &str = "value,tolerance,power,qty,packs,cost";
 
-/// The order list as CSV text, one line per order line, in the order given.
+/// The order list as CSV text, one line per order line, in the order given. Written with the `csv` crate,
+/// which quotes a field only when it must, so the file reads back in any spreadsheet as it does here.
 pub fn render_csv(lines: &[OrderLine]) -> String {
-    let mut out = String::with_capacity(40 * (lines.len() + 1));
-    out.push_str(HEADER);
-    out.push('\n');
-    for l in lines {
-        out.push_str(&format!(
-            "{},{},{},{},{},{}\n",
-            code(l.ohms),
-            tolerance_text(l.tolerance),
-            power_text(l.power),
-            l.qty,
-            l.packs,
-            l.cost
-        ));
+    let mut w = csv::WriterBuilder::new()
+        .terminator(csv::Terminator::Any(b'\n'))
+        .from_writer(Vec::with_capacity(40 * (lines.len() + 1)));
+    let rows = std::iter::once(HEADER.split(',').map(str::to_string).collect::<Vec<_>>()).chain(
+        lines.iter().map(|l| {
+            vec![
+                code(l.ohms),
+                tolerance_text(l.tolerance),
+                power_text(l.power),
+                l.qty.to_string(),
+                l.packs.to_string(),
+                l.cost.to_string(),
+            ]
+        }),
+    );
+    for row in rows {
+        // Writing to a Vec cannot fail.
+        let _ = w.write_record(&row);
     }
-    out
+    String::from_utf8(w.into_inner().unwrap_or_default()).unwrap_or_default()
 }
 
 /// The columns `stock add` reads from an order file.
