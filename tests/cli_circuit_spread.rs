@@ -188,3 +188,45 @@ fn a_switch_spread_counts_the_builds_that_saturate_as_the_beta_distribution_says
     assert!((got_od - od).abs() < se(od), "overdrive {got_od} vs {od}");
     assert_eq!(sp["requirements_met"].as_f64(), Some(got_od));
 }
+
+#[test]
+fn two_circuits_and_no_choice_are_refused_by_spread_and_verify() {
+    let two = format!(
+        "{}\n{}",
+        std::fs::read_to_string(root().join("examples/starters/led-string.toml")).unwrap(),
+        std::fs::read_to_string(root().join("examples/starters/switch.toml")).unwrap()
+    );
+    let f = temp_file("two.toml", &two);
+    let f = f.to_str().unwrap();
+    for (args, says) in [
+        (
+            vec!["spread", f, "--use", "R1=470"],
+            "pick the one to spread with --stage",
+        ),
+        (
+            vec!["verify", f, "--use", "R1=470", "--measured", "a1=6"],
+            "say which was built with --stage",
+        ),
+    ] {
+        let out = biasfit(&args);
+        assert_eq!(out.status.code(), Some(2), "{}", stderr(&out));
+        assert!(
+            stderr(&out).contains(&format!(
+                "has 2 circuits (circuit \"panel string\", circuit \"relay driver\"); {says}"
+            )),
+            "{}",
+            stderr(&out)
+        );
+    }
+    let chosen = biasfit(&[
+        "spread",
+        f,
+        "--circuit",
+        "relay driver",
+        "--use",
+        "RB=1k3",
+        "--runs",
+        "200",
+    ]);
+    assert_eq!(chosen.status.code(), Some(0), "{}", stderr(&chosen));
+}

@@ -192,6 +192,30 @@ pub fn circuit_networks(
     Ok(nets.into_iter().flatten().collect())
 }
 
+/// The circuit a command on a built position means: the one `--stage NAME` names, or a file's only
+/// circuit when it holds no stage; None when a stage is meant (the stage path then reads the file).
+/// `what` finishes the refusal when several circuits leave it open ("pick the one to spread with --stage").
+pub fn chosen_circuit<'d>(
+    file: &'d biasfit::design_file::DesignFile,
+    which: Option<&str>,
+    what: &str,
+) -> Result<Option<&'d Circuit>, Failure> {
+    match (which, file.stages.as_slice(), file.circuits.as_slice()) {
+        (Some(w), _, _) => Ok(match file.position(w) {
+            Some(Position::Circuit(c)) => Some(c),
+            _ => None,
+        }),
+        (None, [], [c]) => Ok(Some(c)),
+        (None, [], list) => Err(Failure::Input(format!(
+            "{} has {} circuits ({}); {what}",
+            file.file,
+            list.len(),
+            file.names().join(", ")
+        ))),
+        _ => Ok(None),
+    }
+}
+
 /// Runs `biasfit check`.
 pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
     let outputs = args.drawings.outputs(&[("design file", &args.file)]);

@@ -110,26 +110,11 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     args.drawings.check(&outputs)?;
     let range = args.temp.as_deref().map(parse_range).transpose()?;
     let file = biasfit::design_file::load(&args.file).map_err(input)?;
-    let circuit = match (
+    let circuit = super::check::chosen_circuit(
+        &file,
         args.stage.as_deref(),
-        file.stages.as_slice(),
-        file.circuits.as_slice(),
-    ) {
-        (Some(w), _, _) => match file.position(w) {
-            Some(biasfit::design_file::Position::Circuit(c)) => Some(c),
-            _ => None,
-        },
-        (None, [], [c]) => Some(c),
-        (None, [], list) => {
-            return Err(Failure::Input(format!(
-                "{} has {} circuits ({}); pick the one to spread with --stage",
-                file.file,
-                list.len(),
-                file.names().join(", ")
-            )))
-        }
-        _ => None,
-    };
+        "pick the one to spread with --stage",
+    )?;
     if let Some(c) = circuit {
         return spread_circuit(&args, c, range, out);
     }

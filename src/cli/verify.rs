@@ -35,26 +35,11 @@ pub struct VerifyArgs {
 /// Runs `biasfit verify`: exit 0 for a good or acceptable build, 1 for a fault.
 pub fn run(args: VerifyArgs, out: &mut Out) -> Result<(), Failure> {
     let file = biasfit::design_file::load(&args.file).map_err(super::input)?;
-    let circuit = match (
+    let circuit = super::check::chosen_circuit(
+        &file,
         args.stage.as_deref(),
-        file.stages.as_slice(),
-        file.circuits.as_slice(),
-    ) {
-        (Some(w), _, _) => match file.position(w) {
-            Some(biasfit::design_file::Position::Circuit(c)) => Some(c),
-            _ => None,
-        },
-        (None, [], [c]) => Some(c),
-        (None, [], list) => {
-            return Err(Failure::Input(format!(
-                "{} has {} circuits ({}); say which was built with --stage",
-                file.file,
-                list.len(),
-                file.names().join(", ")
-            )))
-        }
-        _ => None,
-    };
+        "say which was built with --stage",
+    )?;
     if let Some(c) = circuit {
         return verify_circuit(&args, c, out);
     }
