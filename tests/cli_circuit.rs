@@ -149,7 +149,7 @@ fn what_is_not_a_slot_is_refused_in_one_line() {
     for (uses, says) in [
         (
             "RX=1k",
-            "RX is not a part of the circuit; circuit \"panel string\" has the slots R1",
+            "RX is not a part of the circuit (did you mean R1?); circuit \"panel string\" has the slots R1",
         ),
         (
             "D1=1k",

@@ -240,6 +240,7 @@ fn readings_that_are_not_readings_are_refused_in_one_line() {
         ("gnd=0", "'gnd' is the 0 V reference"),
         ("c1=4,c1=4.1", "'c1' is read twice"),
         ("c1", "is not a reading; expected NODE=VOLTS"),
+        ("c1=4,7", "write decimals with a point (11.7, not 11,7)"),
         ("c1=four", "c1=four"),
     ] {
         let out = biasfit(&[

@@ -143,6 +143,9 @@ pub enum ReadingError {
         /// The circuit's nodes.
         nodes: String,
     },
+    /// A bare number after a comma: a decimal comma, most likely.
+    #[error("\"{}\" is not a reading; commas separate readings, so write decimals with a point (11.7, not 11,7)", crate::notation::excerpt(.0))]
+    Comma(String),
     /// Ground is the meter's reference.
     #[error("'gnd' is the 0 V reference the meter reads from; read the other nodes")]
     Ground,
@@ -173,6 +176,9 @@ pub fn parse_readings(c: &Circuit, text: &str) -> Result<Vec<Reading>, ReadingEr
         .map_or("out=4.5".to_string(), |n| format!("{n}=4.5"));
     let mut out: Vec<Reading> = Vec::new();
     for item in text.split(',').map(str::trim).filter(|s| !s.is_empty()) {
+        if !item.contains('=') && item.chars().all(|c| c.is_ascii_digit()) && !out.is_empty() {
+            return Err(ReadingError::Comma(item.into()));
+        }
         let (name, value) = item.split_once('=').ok_or_else(|| ReadingError::Shape {
             text: item.into(),
             nodes: nodes.clone(),

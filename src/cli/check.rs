@@ -159,7 +159,12 @@ pub fn circuit_networks(
                     "is a {}; only a resistor without a value is a slot",
                     k.name()
                 ),
-                None => "is not a part of the circuit".to_string(),
+                None => format!(
+                    "is not a part of the circuit{}",
+                    biasfit::circuit::file::nearest(name, &slots)
+                        .map(|n| format!(" (did you mean {n}?)"))
+                        .unwrap_or_default()
+                ),
             };
             Failure::Input(format!(
                 "--use: {} {why}; circuit \"{}\" has the slots {expected}",
