@@ -276,21 +276,24 @@ pub fn run(args: CheckArgs, out: &mut Out) -> Result<(), Failure> {
         stage_sheet.notes = s.ideal_failure_notes();
         let sheet = [stage_sheet];
         let title = format!("{} ({})", s.name, design.file);
-        for f in args.drawings.write(
+        args.drawings.write(
             &outputs,
             out,
             &title,
             &sheet,
             &pick_list(&sheet),
             &report.cautions,
-        )? {
-            super::output::note(&format!("wrote {}", f.display()));
-        }
+        )?;
     }
-    if args.json {
-        out.json(&report)?;
+    emit(&report, args.json, out)
+}
+
+/// Prints a check report (text or JSON); a failed check is exit 1.
+fn emit(report: &Report, json: bool, out: &mut Out) -> Result<(), Failure> {
+    if json {
+        out.json(report)?;
     } else {
-        out.text(&table::render_check(&report, out.colour()))?;
+        out.text(&table::render_check(report, out.colour()))?;
     }
     if report.all_ok() {
         Ok(())
@@ -336,18 +339,6 @@ fn check_circuit(
             page.as_bytes(),
             out,
         )?;
-        if !super::output::to_stdout(path) {
-            super::output::note(&format!("wrote {}", path.display()));
-        }
     }
-    if args.json {
-        out.json(&report)?;
-    } else {
-        out.text(&table::render_check(&report, out.colour()))?;
-    }
-    if report.all_ok() {
-        Ok(())
-    } else {
-        Err(Failure::ChecksFailed)
-    }
+    emit(&report, args.json, out)
 }

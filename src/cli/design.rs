@@ -232,16 +232,14 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     if args.drawings.wanted() {
         let sheet = sheet(&design_file, &outcome.built, &outcome.kept);
         let title = format!("{} from {}", design_file.file, stock.file);
-        for f in args.drawings.write(
+        args.drawings.write(
             &outputs,
             out,
             &title,
             &sheet,
             &report.pick,
             &report.cautions,
-        )? {
-            super::output::note(&format!("wrote {}", f.display()));
-        }
+        )?;
     }
     if args.json {
         out.json(&report)?;

@@ -91,7 +91,7 @@ impl DrawingArgs {
         Ok(())
     }
 
-    /// Writes what was asked for and returns the files written.
+    /// Writes what was asked for (each file says on stderr that it was written).
     pub fn write(
         &self,
         outputs: &Outputs,
@@ -100,9 +100,8 @@ impl DrawingArgs {
         stages: &[SheetStage],
         pick: &[PickLine],
         cautions: &[String],
-    ) -> Result<Vec<PathBuf>, Failure> {
+    ) -> Result<(), Failure> {
         self.check(outputs)?;
-        let mut written = Vec::new();
         if let Some(dir) = &self.svg {
             std::fs::create_dir_all(dir).map_err(|e| {
                 Failure::Io(format!(
@@ -118,18 +117,14 @@ impl DrawingArgs {
                 ] {
                     let path = dir.join(format!("{stem}-{kind}.svg"));
                     outputs.write("--svg", &path, Kind::Svg, svg.as_bytes(), out)?;
-                    written.push(path);
                 }
             }
         }
         if let Some(file) = &self.html {
             let sheet = build_sheet(title, stages, pick, cautions);
             outputs.write("--html", file, Kind::Html, sheet.as_bytes(), out)?;
-            if !to_stdout(file) {
-                written.push(file.clone());
-            }
         }
-        Ok(written)
+        Ok(())
     }
 }
 

@@ -231,23 +231,18 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     if let Some(path) = &args.csv {
         let csv = render_csv(&outcome.lines);
         outputs.write("--csv", path, Kind::OrderCsv, csv.as_bytes(), out)?;
-        if !to_stdout(path) {
-            super::output::note(&format!("wrote {}", path.display()));
-        }
     }
     if args.drawings.wanted() {
         let sheet = super::design::sheet(&design, &outcome.built, &[]);
         let title = format!("{} from {} and a purchase", design.file, stock.file);
-        for f in args.drawings.write(
+        args.drawings.write(
             &outputs,
             out,
             &title,
             &sheet,
             &report.pick,
             &report.cautions,
-        )? {
-            super::output::note(&format!("wrote {}", f.display()));
-        }
+        )?;
     }
     let goal_report = match goal {
         Goal::MaxError(b) => GoalReport {

@@ -195,7 +195,7 @@ impl Outputs {
 
     /// Checks the output again and writes it: `-` (or /dev/stdout) to standard output, a device or a FIFO
     /// directly, a regular file atomically (see [`biasfit::save`]). Prints what the user should know about
-    /// the new file.
+    /// the new file, and that it was written.
     pub fn write(
         &self,
         flag: &str,
@@ -219,6 +219,7 @@ impl Outputs {
             .write(path, bytes)
             .map_err(|e| Failure::Io(e.to_string()))?;
         warn_all(&written.notes);
+        note(&format!("wrote {}", path.display()));
         Ok(())
     }
 }

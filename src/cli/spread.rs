@@ -180,7 +180,7 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
     let report = SpreadReport::new(results);
     if args.drawings.wanted() {
         let title = format!("{}: spread", design.file);
-        let mut written = args.drawings.write(
+        args.drawings.write(
             &outputs,
             out,
             &title,
@@ -192,10 +192,6 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
             let path = dir.join("histograms.svg");
             let svg = render_spread_svg(&report);
             outputs.write("--svg", &path, Kind::Svg, svg.as_bytes(), out)?;
-            written.push(path);
-        }
-        for f in written {
-            super::output::note(&format!("wrote {}", f.display()));
         }
     }
     if args.json {

@@ -58,6 +58,9 @@ pub struct CircuitPartReport {
     /// A slot's members.
     #[serde(skip_serializing_if = "Option::is_none")]
     pub parts: Option<Vec<PartReport>>,
+    /// A slot's value as people read it: to the digits its members change (as a stage slot's).
+    #[serde(skip)]
+    pub shown: Option<String>,
 }
 
 /// One target against what the built circuit gives.
@@ -188,6 +191,7 @@ impl CircuitReport {
                         across: st.across.0,
                         ohms: slot.map(|n| n.ohms().0).or(fixed.map(|o| o.0)),
                         network: slot.map(Network::notation),
+                        shown: slot.map(Network::value_code),
                         parts: slot.map(|n| {
                             n.members()
                                 .into_iter()

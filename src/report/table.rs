@@ -106,25 +106,32 @@ pub(super) fn volts(x: f64) -> String {
 }
 
 pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
-    if !x.is_finite() {
-        return "∞".into();
-    }
-    // A femtowatt or femtoampere is rounding residue, not a reading.
-    let x = if matches!(c.unit, CheckUnit::Amps | CheckUnit::Watts) && x.abs() < 1e-15 {
-        0.0
-    } else {
-        x
-    };
-    match c.unit {
-        CheckUnit::Ratio => format!("{} × IB", trim_number(x, 3)),
-        CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
-        CheckUnit::Amps => amps(x),
-        CheckUnit::Volts => volts(x),
-        CheckUnit::Watts => engineering(x, "W"),
-        CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
-        CheckUnit::Flag if x >= 1.0 => "met".into(),
-        CheckUnit::Flag => "not met".into(),
-    }
+    c.unit.show(x)
+}
+
+/// A network's members for people: "33k 5 % 250 mW @D3, 680k 1 % 500 mW @D6".
+fn parts_text(parts: &[super::PartReport]) -> String {
+    parts
+        .iter()
+        .map(|p| {
+            let mut t = format!(
+                "{} {} {}",
+                code(Ohms(p.ohms)),
+                crate::units::Tolerance(p.tolerance),
+                engineering(p.power, "W")
+            );
+            match p.location.as_deref() {
+                // A part in a purchase has no drawer yet.
+                Some(crate::stock::TO_BUY) => t.push_str(" (to buy)"),
+                Some(l) => {
+                    let _ = write!(t, " @{l}");
+                }
+                None => {}
+            }
+            t
+        })
+        .collect::<Vec<_>>()
+        .join(", ")
 }
 
 pub(super) fn heading(s: &StageReport) -> String {
@@ -257,28 +264,7 @@ pub fn render_check(r: &Report, colour: bool) -> String {
         let mut g = Grid::new(3);
         g.row(["slot", "network", "parts"]);
         for (slot, sr) in &s.slots.0 {
-            let parts = sr
-                .parts
-                .iter()
-                .map(|p| {
-                    let mut t = format!(
-                        "{} {} {}",
-                        code(Ohms(p.ohms)),
-                        crate::units::Tolerance(p.tolerance),
-                        engineering(p.power, "W")
-                    );
-                    match p.location.as_deref() {
-                        // A part in a purchase has no drawer yet.
-                        Some(crate::stock::TO_BUY) => t.push_str(" (to buy)"),
-                        Some(l) => {
-                            let _ = write!(t, " @{l}");
-                        }
-                        None => {}
-                    }
-                    t
-                })
-                .collect::<Vec<_>>()
-                .join(", ");
+            let parts = parts_text(&sr.parts);
             let shown = if sr.parts.len() > 1 {
                 format!("{} = {}", sr.network, sr.shown)
             } else {
@@ -387,25 +373,10 @@ fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
         g.row(["slot", "network", "parts"]);
         for (name, p) in slots {
             let members = p.parts.as_deref().unwrap_or_default();
-            let parts = members
-                .iter()
-                .map(|m| {
-                    let mut t = format!(
-                        "{} {} {}",
-                        code(Ohms(m.ohms)),
-                        crate::units::Tolerance(m.tolerance),
-                        engineering(m.power, "W")
-                    );
-                    if let Some(l) = &m.location {
-                        let _ = write!(t, " @{l}");
-                    }
-                    t
-                })
-                .collect::<Vec<_>>()
-                .join(", ");
+            let parts = parts_text(members);
             let network = p.network.clone().unwrap_or_default();
-            let shown = match p.ohms {
-                Some(o) if members.len() > 1 => format!("{network} = {}", code(Ohms(o))),
+            let shown = match &p.shown {
+                Some(v) if members.len() > 1 => format!("{network} = {v}"),
                 _ => network,
             };
             g.row([name.clone(), shown, parts]);

@@ -47,6 +47,32 @@ pub fn on_target(error: f64) -> Check {
     }
 }
 
+impl CheckUnit {
+    /// A value in this unit for people: "9.2 × IB", "125 mW", "met"; ∞ when unbounded. A femtoampere or
+    /// femtowatt is rounding residue, shown as 0.
+    pub fn show(self, x: f64) -> String {
+        use crate::notation::{engineering, trim_number};
+        if !x.is_finite() {
+            return "∞".into();
+        }
+        let x = if matches!(self, CheckUnit::Amps | CheckUnit::Watts) && x.abs() < 1e-15 {
+            0.0
+        } else {
+            x
+        };
+        match self {
+            CheckUnit::Ratio => format!("{} × IB", trim_number(x, 3)),
+            CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
+            CheckUnit::Amps => engineering(x, "A"),
+            CheckUnit::Volts => engineering(x, "V"),
+            CheckUnit::Watts => engineering(x, "W"),
+            CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
+            CheckUnit::Flag if x >= 1.0 => "met".into(),
+            CheckUnit::Flag => "not met".into(),
+        }
+    }
+}
+
 /// One check: a value against a limit.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Check {
@@ -67,17 +93,7 @@ pub struct Check {
 impl Check {
     /// The check as a phrase: "beta spread 78 % (needs ≤ 25 %)".
     pub fn describe(&self) -> String {
-        use crate::notation::{engineering, trim_number};
-        let show = |x: f64| match self.unit {
-            CheckUnit::Ratio => format!("{} × IB", trim_number(x, 3)),
-            CheckUnit::Fraction => format!("{} %", trim_number(x * 100.0, 3)),
-            CheckUnit::Amps => engineering(x, "A"),
-            CheckUnit::Volts => engineering(x, "V"),
-            CheckUnit::Watts => engineering(x, "W"),
-            CheckUnit::Times => format!("{} ×", trim_number(x, 3)),
-            CheckUnit::Flag if x >= 1.0 => "met".into(),
-            CheckUnit::Flag => "not met".into(),
-        };
+        let show = |x: f64| self.unit.show(x);
         if self.unit == CheckUnit::Flag {
             return format!("{} {}", self.name, show(self.value));
         }
