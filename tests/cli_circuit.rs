@@ -20,7 +20,7 @@ const LEDS: &str = "examples/starters/led-string.toml";
 
 #[test]
 fn a_led_string_checks_against_ohms_law_kirchhoff_and_the_shockley_law() {
-    let out = biasfit(&["check", LEDS, "--use", "R1=560", "--json"]);
+    let out = biasfit(&["check", LEDS, "--use", "R1=470", "--json"]);
     assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
     let v = json(&out);
     assert_eq!(v["stages"], Value::Array(Vec::new()));
@@ -30,11 +30,11 @@ fn a_led_string_checks_against_ohms_law_kirchhoff_and_the_shockley_law() {
     }
     let node = |n: &str| c["nodes"][n].as_f64().unwrap();
     let r1 = &c["parts"]["R1"];
-    assert_eq!(r1["ohms"].as_f64(), Some(560.0));
-    assert_eq!(r1["network"].as_str(), Some("560R"));
+    assert_eq!(r1["ohms"].as_f64(), Some(470.0));
+    assert_eq!(r1["network"].as_str(), Some("470R"));
     let i = r1["current"].as_f64().unwrap();
     // Ohm's law across the slot, and Kirchhoff's voltage law round the string (rail 12 V in the file).
-    assert!(close((node("v12") - node("a1")) / 560.0, i, 1e-9));
+    assert!(close((node("v12") - node("a1")) / 470.0, i, 1e-9));
     let leds: f64 = ["D1", "D2", "D3"]
         .iter()
         .map(|d| c["parts"][*d]["across"].as_f64().unwrap())
@@ -51,7 +51,7 @@ fn a_led_string_checks_against_ohms_law_kirchhoff_and_the_shockley_law() {
     }
     // The LED-resistor sizing formula R = (Vs − ΣVf)/I (textbook practice, e.g. Horowitz & Hill, The Art of
     // Electronics, 3rd ed., ch. 2, from memory) holds at the solved point.
-    assert!(close((12.0 - 3.0 * vf) / i, 560.0, 1e-6));
+    assert!(close((12.0 - 3.0 * vf) / i, 470.0, 1e-6));
     let t = &c["targets"][0];
     assert_eq!(t["what"].as_str(), Some("current R1"));
     assert!(close(
@@ -188,7 +188,7 @@ fn a_file_with_a_stage_and_a_circuit_asks_which_and_takes_either() {
     std::fs::write(&file, format!("{stage}\n{circuit}")).unwrap();
     let f = file.to_str().unwrap();
 
-    let out = biasfit(&["check", f, "--use", "R1=560"]);
+    let out = biasfit(&["check", f, "--use", "R1=470"]);
     assert_eq!(out.status.code(), Some(2));
     assert!(
         stderr(&out).contains(
@@ -197,9 +197,9 @@ fn a_file_with_a_stage_and_a_circuit_asks_which_and_takes_either() {
         "{}",
         stderr(&out)
     );
-    let by_name = biasfit(&["check", f, "--circuit", "panel string", "--use", "R1=560"]);
+    let by_name = biasfit(&["check", f, "--circuit", "panel string", "--use", "R1=470"]);
     assert_eq!(by_name.status.code(), Some(0), "{}", stderr(&by_name));
-    let by_number = biasfit(&["check", f, "--stage", "2", "--use", "R1=560"]);
+    let by_number = biasfit(&["check", f, "--stage", "2", "--use", "R1=470"]);
     assert_eq!(stdout(&by_name), stdout(&by_number));
     // The stage in the same file still checks as before, and `design` fills it, leaving the circuit alone.
     let stage = biasfit(&[

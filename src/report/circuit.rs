@@ -159,6 +159,10 @@ impl CircuitReport {
                 None => checks.push(CheckReport::from(k)),
             }
         }
+        // Far off target is not a pass, whatever the other checks say: the stages' rule.
+        if !c.targets.is_empty() {
+            checks.push(CheckReport::from(crate::stage::on_target(c.error(&s))));
+        }
         let nodes = Named(
             c.nodes
                 .iter()
