@@ -240,18 +240,19 @@ impl CircuitFault {
                 let near = crate::notation::eseries::Series::E12.nearest(*r);
                 let ratio = r.0 / own.0;
                 let decades = ratio.log10().round();
-                let hint = if decades != 0.0 && (ratio / 10f64.powf(decades) - 1.0).abs() < 0.15 {
-                    format!(
-                        "a decade off: {} fitted for {}?",
-                        crate::notation::code(Ohms(own.0 * 10f64.powf(decades))),
-                        crate::notation::code(*own)
-                    )
-                } else {
-                    format!(
-                        "nearest E12 {}: a wrong value taken from the drawer?",
-                        crate::notation::code(near)
-                    )
-                };
+                let hint =
+                    if decades != 0.0 && (ratio / 10f64.powf(decades) - 1.0).abs() < ACCEPTABLE {
+                        format!(
+                            "a decade off: {} fitted for {}?",
+                            crate::notation::code(Ohms(own.0 * 10f64.powf(decades))),
+                            crate::notation::code(*own)
+                        )
+                    } else {
+                        format!(
+                            "nearest E12 {}: a wrong value taken from the drawer?",
+                            crate::notation::code(near)
+                        )
+                    };
                 format!(
                     "{p} fitted as about {} ({hint})",
                     crate::notation::value::code_with(*r, 3)
