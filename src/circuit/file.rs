@@ -16,7 +16,7 @@
 
 use super::fet::Channel;
 use super::jfet::Jfet;
-use super::model::{Circuit, Kind, ModelError, Quantity, Ranged, Requirement, Target};
+use super::model::{Circuit, Kind, ModelError, Quantity, Ranged, Requirement, SlotRule, Target};
 use super::mosfet::Mosfet;
 use super::region::Region;
 use super::solver::{Options, Solver};
@@ -398,6 +398,34 @@ fn ranged<T: Copy + PartialOrd>(cx: &Cx, v: &Val, one: impl Fn(&Val) -> Res<T>) 
     })
 }
 
+/// A slot's `range = ["10k", "100k"]`: two resistances, the smaller first.
+fn slot_range(cx: &Cx, v: &Val) -> Res<(Ohms, Ohms)> {
+    let expected =
+        "expected two quoted resistances, the smaller first, such as [\"10k\", \"100k\"]";
+    let Some(Value::Array(a)) = v.item.as_value() else {
+        return Err(v.refuse(cx, expected));
+    };
+    let items: Vec<&Value> = a.iter().collect();
+    if items.len() != 2 {
+        return Err(v.refuse(cx, expected));
+    }
+    let mut out = Vec::new();
+    for it in items {
+        let item = Item::Value(it.clone());
+        let sub = Val {
+            item: &item,
+            line: v.line,
+            field: v.field.clone(),
+            text: v.text.clone(),
+        };
+        out.push(ohms(cx, &sub)?);
+    }
+    if out[0].0 >= out[1].0 {
+        return Err(v.refuse(cx, expected));
+    }
+    Ok((out[0], out[1]))
+}
+
 fn name_of(cx: &Cx, v: &Val, what: &str) -> Res<String> {
     v.string()
         .map(|s| s.trim().to_string())
@@ -445,6 +473,8 @@ const PART_KEYS: &[&str] = &[
     "value",
     "power",
     "tolerance",
+    "hint",
+    "range",
     "collector",
     "base",
     "emitter",
@@ -487,7 +517,7 @@ const PART_KEYS: &[&str] = &[
 fn kind_keys(kind: &str) -> Vec<&'static str> {
     let mut k = vec!["name", "kind"];
     let own: &[&str] = match kind {
-        "resistor" => &["between", "value", "power", "tolerance"],
+        "resistor" => &["between", "value", "power", "tolerance", "hint", "range"],
         "npn" | "pnp" => &["collector", "base", "emitter"],
         "diode" | "led" => &["anode", "cathode", "volts", "at", "n", "max_power"],
         "zener" => &["anode", "cathode", "volts", "at", "slope", "max_power"],
@@ -827,6 +857,41 @@ fn read_part(cx: &Cx, c: &mut Circuit, t: &Table, line: usize) -> Res<()> {
                     None => return Err(v.refuse(cx, "expected a quoted tolerance, such as \"1%\"")),
                 }),
             };
+            let hint = tab.get(cx, "hint").map(|v| ohms(cx, &v)).transpose()?;
+            let range = match tab.get(cx, "range") {
+                None => None,
+                Some(v) => Some(slot_range(cx, &v)?),
+            };
+            if value.is_some() {
+                for key in ["hint", "range"] {
+                    if let Some(v) = tab.get(cx, key) {
+                        return Err(v.refuse(
+                            cx,
+                            "a hint or range is for a slot, a resistor without a value; remove it or the value",
+                        ));
+                    }
+                }
+            }
+            if let (Some(h), Some((lo, hi))) = (hint, range) {
+                if h.0 < lo.0 || h.0 > hi.0 {
+                    let v = tab.get(cx, "hint").expect("read above");
+                    return Err(v.refuse(
+                        cx,
+                        format!(
+                            "expected a hint within the slot's range, {} to {}",
+                            crate::notation::code(lo),
+                            crate::notation::code(hi)
+                        ),
+                    ));
+                }
+            }
+            if hint.is_some() || range.is_some() {
+                c.rules.push(SlotRule {
+                    part: c.parts.len(),
+                    hint,
+                    range,
+                });
+            }
             if value.is_none() {
                 for (key, what) in [
                     ("power", power.is_some()),

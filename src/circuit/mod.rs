@@ -15,6 +15,7 @@ pub mod bjt;
 pub mod diode;
 pub mod fet;
 pub mod file;
+pub mod ideal;
 pub mod jfet;
 mod mna;
 pub mod model;
@@ -31,7 +32,7 @@ pub mod zener;
 
 pub use model::{
     Build, Circuit, Element, Kind, ModelError, NodeId, Part, Pick, Quantity, Ranged, Requirement,
-    Target, GROUND,
+    SlotRule, Target, GROUND,
 };
 pub use region::Region;
 pub use solver::{solve, Latch, Options, PartState, Solution, SolveError, Solver};

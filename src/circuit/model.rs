@@ -302,6 +302,18 @@ pub enum Requirement {
     },
 }
 
+/// A slot's own rule, for the ideal design: the targets may leave a slot free (a divider's scale, say), and
+/// the rule settles it; a range also bounds the networks the search offers for it.
+#[derive(Clone, Copy, Debug, PartialEq)]
+pub struct SlotRule {
+    /// The slot (a part index).
+    pub part: usize,
+    /// A value to stay near where the targets do not say.
+    pub hint: Option<Ohms>,
+    /// The least and the greatest value allowed.
+    pub range: Option<(Ohms, Ohms)>,
+}
+
 /// A circuit the user describes.
 #[derive(Clone, Debug, PartialEq)]
 pub struct Circuit {
@@ -317,6 +329,8 @@ pub struct Circuit {
     pub targets: Vec<Target>,
     /// The hard constraints beyond each part's power.
     pub requirements: Vec<Requirement>,
+    /// How slots the targets leave free are settled: a value to stay near, a range to keep within.
+    pub rules: Vec<SlotRule>,
     /// Derating and temperatures (the stage model's).
     pub limits: Limits,
     /// The 1-based line of the `[[circuit]]` header (0 when built in code).
@@ -450,6 +464,7 @@ impl Circuit {
             parts: Vec::new(),
             targets: Vec::new(),
             requirements: Vec::new(),
+            rules: Vec::new(),
             limits: crate::stage::design::DEFAULT_LIMITS,
             line: 0,
         }

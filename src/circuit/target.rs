@@ -5,7 +5,7 @@
 //! and the stiffness rule generalised (a part's current at least k × a transistor's base current at min
 //! beta). Checks reuse the stage model's [`Check`] so reports can show both alike.
 
-use super::model::{Circuit, Element, Kind, Pick, Quantity, Requirement};
+use super::model::{Build, Circuit, Element, Kind, Pick, Quantity, Requirement};
 use super::solver::{Options, Solution, SolveError, Solver};
 use crate::stage::{Check, CheckUnit};
 use crate::units::{Ohms, Watts};
@@ -85,6 +85,63 @@ impl Circuit {
                 f64::INFINITY
             } else {
                 m.max(d.weighted)
+            }
+        })
+    }
+
+    /// A requirement's figure and the least it may be, as its check measures them: the current (MinCurrent),
+    /// the overdrive at min beta (0 for a switch that is off), or the stiffness ratio at min beta. A region
+    /// requirement, a yes or no, gives (1, 1) when met at typical and (0, 1) when not.
+    pub fn figure(
+        &self,
+        req: &Requirement,
+        typical: &Build,
+        s: &Solution,
+        solver: &mut Solver,
+        options: &Options,
+    ) -> Result<(f64, f64), SolveError> {
+        let ambient = self.limits.ambient;
+        Ok(match req {
+            Requirement::Region { part, allowed } => (
+                f64::from(u8::from(
+                    s.parts[*part].region.is_some_and(|r| allowed.contains(&r)),
+                )),
+                1.0,
+            ),
+            Requirement::MinCurrent { part, amps } => (s.parts[*part].current.0.abs(), amps.0),
+            Requirement::Overdrive { part, times } => {
+                let mut b = typical.clone();
+                let mut beta_min = f64::NAN;
+                if let (Kind::Bjt { transistor, .. }, Element::Bjt(el)) =
+                    (&self.parts[*part].kind, &mut b.elements[*part])
+                {
+                    beta_min = transistor.beta_at(transistor.beta.min, ambient);
+                    el.beta = beta_min;
+                }
+                let at_min = solver.solve(&b, options)?;
+                let ib = at_min.parts[*part].base_current.0.abs();
+                let ic = at_min.parts[*part].current.0.abs();
+                // A switch that does not conduct has no overdrive: it is off, which fails.
+                let on = at_min.parts[*part].region == Some(super::Region::Saturation);
+                let ratio = if on && ic > 0.0 {
+                    ib * beta_min / ic
+                } else {
+                    0.0
+                };
+                (ratio, *times)
+            }
+            Requirement::Stiff { part, over, times } => {
+                let mut b = typical.clone();
+                if let (Kind::Bjt { transistor, .. }, Element::Bjt(el)) =
+                    (&self.parts[*over].kind, &mut b.elements[*over])
+                {
+                    el.beta = transistor.beta_at(transistor.beta.min, ambient);
+                }
+                let at_min = solver.solve(&b, options)?;
+                let ib = at_min.parts[*over].base_current.0.abs();
+                let i = at_min.parts[*part].current.0.abs();
+                let ratio = if ib > 0.0 { i / ib } else { f64::INFINITY };
+                (ratio, *times)
             }
         })
     }
@@ -183,58 +240,35 @@ impl Circuit {
                         true,
                     ));
                 }
-                Requirement::MinCurrent { part, amps } => out.push(check(
-                    format!("current {}", self.parts[*part].name),
-                    s.parts[*part].current.0.abs(),
-                    amps.0,
-                    CheckUnit::Amps,
-                    true,
-                )),
-                Requirement::Overdrive { part, times } => {
-                    let mut b = typical.clone();
-                    let mut beta_min = f64::NAN;
-                    if let (Kind::Bjt { transistor, .. }, Element::Bjt(el)) =
-                        (&self.parts[*part].kind, &mut b.elements[*part])
-                    {
-                        beta_min = transistor.beta_at(transistor.beta.min, ambient);
-                        el.beta = beta_min;
-                    }
-                    let at_min = solver.solve(&b, options)?;
-                    let ib = at_min.parts[*part].base_current.0.abs();
-                    let ic = at_min.parts[*part].current.0.abs();
-                    // A switch that does not conduct has no overdrive: it is off, which fails.
-                    let on = at_min.parts[*part].region == Some(super::Region::Saturation);
-                    let ratio = if on && ic > 0.0 {
-                        ib * beta_min / ic
-                    } else {
-                        0.0
-                    };
+                Requirement::MinCurrent { part, .. } => {
+                    let (value, limit) = self.figure(req, &typical, &s, &mut solver, options)?;
+                    out.push(check(
+                        format!("current {}", self.parts[*part].name),
+                        value,
+                        limit,
+                        CheckUnit::Amps,
+                        true,
+                    ))
+                }
+                Requirement::Overdrive { part, .. } => {
+                    let (value, limit) = self.figure(req, &typical, &s, &mut solver, options)?;
                     out.push(check(
                         format!("overdrive {}", self.parts[*part].name),
-                        ratio,
-                        *times,
+                        value,
+                        limit,
                         CheckUnit::Times,
                         true,
                     ));
                 }
-                Requirement::Stiff { part, over, times } => {
-                    let mut b = typical.clone();
-                    if let (Kind::Bjt { transistor, .. }, Element::Bjt(el)) =
-                        (&self.parts[*over].kind, &mut b.elements[*over])
-                    {
-                        el.beta = transistor.beta_at(transistor.beta.min, ambient);
-                    }
-                    let at_min = solver.solve(&b, options)?;
-                    let ib = at_min.parts[*over].base_current.0.abs();
-                    let i = at_min.parts[*part].current.0.abs();
-                    let ratio = if ib > 0.0 { i / ib } else { f64::INFINITY };
+                Requirement::Stiff { part, over, .. } => {
+                    let (value, limit) = self.figure(req, &typical, &s, &mut solver, options)?;
                     out.push(check(
                         format!(
                             "stiffness {} over {}",
                             self.parts[*part].name, self.parts[*over].name
                         ),
-                        ratio,
-                        *times,
+                        value,
+                        limit,
                         CheckUnit::Ratio,
                         true,
                     ));
