@@ -72,7 +72,7 @@ pub enum IdealError {
         slots: String,
     },
     /// The targets leave slots free (only a ratio, say) and nothing settles them.
-    #[error("circuit \"{circuit}\" (line {line}): the targets leave {slots} free; settle them with a hint = \"22k\" or a range = [\"10k\", \"100k\"] on one of them, or a [[circuit.require]] with min_amps, stiff or overdrive")]
+    #[error("circuit \"{circuit}\" (line {line}): the targets leave {slots} free; settle it with a hint = \"22k\" or a range = [\"10k\", \"100k\"] on a slot, or with a [[circuit.require]] of min_amps, stiff or overdrive")]
     Free {
         /// The circuit's name.
         circuit: String,

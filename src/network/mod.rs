@@ -153,6 +153,24 @@ impl Network {
         (low / nominal - 1.0, high / nominal - 1.0)
     }
 
+    /// The one power rating that, held against the whole network's dissipation, checks every member against
+    /// its own: the members share the power in fixed proportions, so the most loaded one (for its rating)
+    /// reaches its limit first. None for a network that takes no power.
+    pub fn equivalent_rating(&self) -> Option<Watts> {
+        let shares = self.member_powers(Amps(1.0));
+        let total: f64 = shares.iter().map(|w| w.0).sum();
+        if total.is_nan() || total <= 0.0 {
+            return None;
+        }
+        self.members()
+            .iter()
+            .zip(&shares)
+            .filter(|(_, p)| p.0 > 0.0)
+            .map(|(m, p)| m.power.0 * total / p.0)
+            .min_by(f64::total_cmp)
+            .map(Watts)
+    }
+
     /// Each member's dissipation with `current` through the whole network, in member order.
     pub fn member_powers(&self, current: Amps) -> Vec<Watts> {
         let mut out = Vec::new();

@@ -6,6 +6,7 @@
 //! ([`share`]) chooses how many copies of each variant to build so that the stock is shared and never
 //! over-drawn.
 
+pub mod circuit;
 pub mod design;
 pub mod search;
 pub mod share;

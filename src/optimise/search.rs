@@ -146,7 +146,7 @@ pub struct Found {
 }
 
 /// A heap entry ordered by error so that the worst of the K best sits on top.
-struct Entry(Found);
+pub(crate) struct Entry(pub(crate) Found);
 impl PartialEq for Entry {
     fn eq(&self, other: &Self) -> bool {
         self.0.error == other.0.error
@@ -169,7 +169,7 @@ impl Ord for Entry {
 }
 
 /// The largest error the search ever looks at: far beyond any design a user would build.
-const GIVE_UP: f64 = 4.0;
+pub(crate) const GIVE_UP: f64 = 4.0;
 
 /// Counts of the work done, for the benchmark and the progress line.
 #[derive(Clone, Copy, Debug, Default, PartialEq)]

@@ -102,28 +102,11 @@ pub struct CircuitReport {
     pub span: f64,
 }
 
-/// The power rating that makes a whole network's dissipation reach its most loaded member's derated limit
-/// first: the members share the network's power in fixed proportions, so one figure checks them all.
-fn network_rating(net: &Network) -> Option<Watts> {
-    let shares = net.member_powers(crate::units::Amps(1.0));
-    let total: f64 = shares.iter().map(|w| w.0).sum();
-    if total.is_nan() || total <= 0.0 {
-        return None;
-    }
-    net.members()
-        .iter()
-        .zip(&shares)
-        .filter(|(_, p)| p.0 > 0.0)
-        .map(|(m, p)| m.power.0 * total / p.0)
-        .min_by(f64::total_cmp)
-        .map(Watts)
-}
-
 impl CircuitReport {
     /// Solves the circuit built with these networks, one per slot in [`Circuit::slots`] order, and judges it.
     pub fn new(c: &Circuit, nets: &[Network]) -> Result<CircuitReport, CheckError> {
         let ohms: Vec<Ohms> = nets.iter().map(Network::ohms).collect();
-        let ratings: Vec<Option<Watts>> = nets.iter().map(network_rating).collect();
+        let ratings: Vec<Option<Watts>> = nets.iter().map(Network::equivalent_rating).collect();
         let options = Options { check_latch: true };
         let build = c.typical(&ohms)?;
         let s = Solver::new(c).solve(&build, &options)?;
