@@ -4,13 +4,13 @@
 use super::check::slot_name;
 use super::drawings::DrawingArgs;
 use super::flags::{seconds, whole};
-use super::ideal::stages;
 use super::output::Progress;
 use super::stock::{load as load_stock, DefaultArgs};
 use super::{Failure, Out};
+use biasfit::design_file::{DesignFile, Position};
 use biasfit::network::parse_network;
 use biasfit::notation::{parse_tolerance, parse_watts};
-use biasfit::optimise::design::{design, DesignError, Request};
+use biasfit::optimise::design::{design_board, DesignError, Request};
 use biasfit::report::design::{render, DesignReport};
 use biasfit::report::html::SheetStage;
 use biasfit::stage::{Design, Slot};
@@ -94,16 +94,21 @@ pub struct DesignArgs {
     pub json: bool,
 }
 
-/// Reads `--keep` pairs: `SLOT=NETWORK`, with an optional `STAGE:` prefix (a number from 1 or a name).
-fn keeps(
-    design: &Design,
-    args: &DesignArgs,
-) -> Result<Vec<(usize, Slot, biasfit::Network)>, Failure> {
+/// Kept slots: of stages (stage index, slot, network) and of circuits (circuit index, slot name, network).
+type Keeps = (
+    Vec<(usize, Slot, biasfit::Network)>,
+    Vec<(usize, String, biasfit::Network)>,
+);
+
+/// Reads `--keep` pairs: `SLOT=NETWORK`, with an optional `STAGE:` prefix (a name, or a number from 1
+/// counting the stages, then the circuits).
+fn keeps(file: &DesignFile, args: &DesignArgs) -> Result<Keeps, Failure> {
     let tol = parse_tolerance(&args.keep_tolerance)
         .map_err(|e| Failure::Input(format!("--keep-tolerance: {e}")))?;
     let watts =
         parse_watts(&args.keep_watts).map_err(|e| Failure::Input(format!("--keep-watts: {e}")))?;
-    let mut out = Vec::new();
+    let (mut stages, mut circuits) = (Vec::new(), Vec::new());
+    let positions = file.stages.len() + file.circuits.len();
     for item in args.keep.iter().flat_map(|k| k.split(',')) {
         let item = item.trim();
         if item.is_empty() {
@@ -114,50 +119,76 @@ fn keeps(
                 "--keep: \"{item}\" is not SLOT=NETWORK; expected pairs such as R2=3k3,RC=2k2"
             ))
         })?;
-        let (stage, slot) = match target.split_once(':') {
+        let (position, slot) = match target.split_once(':') {
             Some((st, sl)) => {
-                let idx = design.stage(st.trim()).map(|s| {
-                    design
-                        .stages
-                        .iter()
-                        .position(|x| std::ptr::eq(x, s))
-                        .expect("a stage of the design")
-                });
-                let idx = idx.ok_or_else(|| {
-                    let names: Vec<String> =
-                        design.stages.iter().map(|s| format!("\"{}\"", s.name)).collect();
-                    let numbers = match design.stages.len() {
-                        1 => "1".to_string(),
-                        n => format!("1 to {n}"),
-                    };
+                let p = file.position(st.trim()).ok_or_else(|| {
                     Failure::Input(format!(
-                        "--keep {item}: {} has no stage \"{st}\"; give its number ({numbers}) or its name ({})",
-                        design.file,
-                        names.join(", ")
+                        "--keep {item}: {} has no stage or circuit \"{st}\"; give its number (1 to {positions}) or its name ({})",
+                        file.file,
+                        file.names().join(", ")
                     ))
                 })?;
-                (idx, sl.trim())
+                (p, sl.trim())
             }
-            None if design.stages.len() == 1 => (0, target.trim()),
+            None if positions == 1 => (
+                file.stages
+                    .first()
+                    .map(Position::Stage)
+                    .or(file.circuits.first().map(Position::Circuit))
+                    .expect("one position"),
+                target.trim(),
+            ),
             None => {
                 return Err(Failure::Input(format!(
-                    "--keep {item}: the file has {} stages; say which, as in 1:{item}",
-                    design.stages.len()
+                    "--keep {item}: the file has {positions} stages and circuits; say which, as in 1:{item}"
                 )))
             }
         };
-        let slot = slot_name("--keep", item, slot, value)?;
-        if out.iter().any(|&(st, sl, _)| st == stage && sl == slot) {
-            return Err(Failure::Input(format!(
-                "--keep: {slot} of stage \"{}\" is given twice; keep each slot once",
-                design.stages[stage].name
-            )));
+        match position {
+            Position::Stage(st) => {
+                let stage = file
+                    .stages
+                    .iter()
+                    .position(|x| std::ptr::eq(x, st))
+                    .expect("a stage of the file");
+                let slot = slot_name("--keep", item, slot, value)?;
+                if stages.iter().any(|&(s, sl, _)| s == stage && sl == slot) {
+                    return Err(Failure::Input(format!(
+                        "--keep: {slot} of stage \"{}\" is given twice; keep each slot once",
+                        st.name
+                    )));
+                }
+                let net = parse_network(value, tol, watts)
+                    .map_err(|e| Failure::Input(format!("--keep {slot}: {e}")))?;
+                stages.push((stage, slot, net));
+            }
+            Position::Circuit(c) => {
+                let ci = file
+                    .circuits
+                    .iter()
+                    .position(|x| std::ptr::eq(x, c))
+                    .expect("a circuit of the file");
+                let names = biasfit::optimise::circuit_step::slot_names(c);
+                let Some(name) = names.iter().find(|n| n.eq_ignore_ascii_case(slot)) else {
+                    return Err(Failure::Input(format!(
+                        "--keep {item}: circuit \"{}\" has no slot {slot}; its slots are {}",
+                        c.name,
+                        names.join(", ")
+                    )));
+                };
+                if circuits.iter().any(|(k, s, _)| *k == ci && s == name) {
+                    return Err(Failure::Input(format!(
+                        "--keep: {name} of circuit \"{}\" is given twice; keep each slot once",
+                        c.name
+                    )));
+                }
+                let net = parse_network(value, tol, watts)
+                    .map_err(|e| Failure::Input(format!("--keep {name}: {e}")))?;
+                circuits.push((ci, name.clone(), net));
+            }
         }
-        let net = parse_network(value, tol, watts)
-            .map_err(|e| Failure::Input(format!("--keep {slot}: {e}")))?;
-        out.push((stage, slot, net));
     }
-    Ok(out)
+    Ok((stages, circuits))
 }
 
 /// The build-sheet view of the chosen builds.
@@ -193,15 +224,38 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     let started = std::time::Instant::now();
     let (file, stock_file, defaults) =
         (args.file.clone(), args.stock.clone(), args.defaults.clone());
-    let (design_file, stock) = super::output::read_within(
+    let (board, stock) = super::output::read_within(
         started + args.time_limit,
         &format!("{} and {}", args.file.display(), args.stock.display()),
-        move || Ok((stages(&file, None)?.0, load_stock(&stock_file, &defaults)?)),
+        move || {
+            Ok((
+                biasfit::design_file::load(&file).map_err(super::input)?,
+                load_stock(&stock_file, &defaults)?,
+            ))
+        },
     )?;
+    let (keep, keep_circuit) = keeps(&board, &args)?;
+    let (tol, watts) = (
+        parse_tolerance(&args.keep_tolerance)
+            .map_err(|e| Failure::Input(format!("--keep-tolerance: {e}")))?,
+        parse_watts(&args.keep_watts).map_err(|e| Failure::Input(format!("--keep-watts: {e}")))?,
+    );
+    // A circuit's fixed resistor that gives no rating is checked at the assumed one, as check does.
+    let circuits: Vec<biasfit::circuit::Circuit> = board
+        .circuits
+        .iter()
+        .map(|c| c.with_assumed_parts(tol, watts))
+        .collect();
+    let design_file = Design {
+        file: board.file.clone(),
+        stages: board.stages.clone(),
+        circuit_tables: 0,
+    };
     let request = Request {
         max_parts: args.parts as usize,
         copies: args.copies,
-        keep: keeps(&design_file, &args)?,
+        keep,
+        keep_circuit,
         variants: args.variants as usize,
         alternatives: args.alternatives,
         time_limit: Some(args.time_limit),
@@ -216,19 +270,23 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
         ..Request::default()
     };
     let progress = Progress::start("searching", Some((started, args.time_limit)));
-    let outcome = design(&design_file, &stock, &request, &mut |p| progress.phase(p));
+    let outcome = design_board(&design_file, &circuits, &stock, &request, &mut |p| {
+        progress.phase(p)
+    });
     drop(progress);
     let outcome = match outcome {
         Ok(o) => o,
         Err(e @ DesignError::TimedOut(_)) => return Err(Failure::TimedOut(e.to_string())),
         Err(
             e @ (DesignError::Infeasible { .. }
+            | DesignError::CircuitInfeasible { .. }
             | DesignError::Scarce(_)
             | DesignError::EmptyStock(_)),
         ) => return Err(Failure::Infeasible(e.to_string())),
         Err(e) => return Err(Failure::Input(e.to_string())),
     };
-    let report = DesignReport::new(&design_file, &stock, &outcome, args.copies);
+    let report = DesignReport::new(&design_file, &stock, &outcome, args.copies)
+        .with_circuits(&circuits, &stock, &outcome);
     if args.drawings.wanted() {
         let sheet = sheet(&design_file, &outcome.built, &outcome.kept);
         let title = format!("{} from {}", design_file.file, stock.file);

@@ -199,6 +199,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
     // the bought ones are then taken off it, since they are not in the drawer yet.
     let as_outcome = Outcome {
         built: outcome.built.clone(),
+        circuits: Default::default(),
         alternatives: Vec::new(),
         baseline: Vec::new(),
         solver: SolverInfo {

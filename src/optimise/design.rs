@@ -2,11 +2,13 @@
 //! search, then the integer program that shares the stock across stages and boards; plus the hand-rounded
 //! baseline and, when nothing fits, the constraint that binds.
 
+use super::circuit_step::{build_of, search_circuit, CircuitOutcome, Searched as CircuitSearched};
 use super::search::{
     best_variants, best_variants_within, Deviations, Effort, Evaluate, Found, GainWindow, Order,
     Stop, GAIN, IC, RC, VCE, VE,
 };
 use super::share::{allocate, ShareError, Variant};
+use crate::circuit::Circuit;
 use crate::network::candidates::{Candidate, Cut, Index};
 use crate::network::{Network, PartId};
 use crate::stage::{
@@ -25,6 +27,8 @@ pub struct Request {
     pub copies: u32,
     /// Slots already fitted: (stage index, slot, network). They are kept as they are and take no stock.
     pub keep: Vec<(usize, Slot, Network)>,
+    /// Circuit slots already fitted: (circuit index, slot name, network), kept likewise.
+    pub keep_circuit: Vec<(usize, String, Network)>,
     /// Variants generated per stage for the integer program.
     pub variants: usize,
     /// Next-best designs to list per stage.
@@ -81,6 +85,7 @@ impl Default for Request {
             max_parts: 2,
             copies: 1,
             keep: Vec::new(),
+            keep_circuit: Vec::new(),
             variants: 200,
             alternatives: 0,
             time_limit: None,
@@ -168,6 +173,8 @@ pub struct Outcome {
     pub notes: Vec<String>,
     /// The slots kept as given (already fitted), by stage index.
     pub kept: Vec<(usize, Slot)>,
+    /// The circuits' builds, baselines and alternatives.
+    pub circuits: CircuitOutcome,
 }
 
 impl Outcome {
@@ -212,6 +219,27 @@ pub enum DesignError {
     /// The stock cannot cover every board.
     #[error("{0}; try fewer --copies, --parts 3, or `biasfit order` for a shopping list")]
     Scarce(String),
+    /// A circuit has no ideal design.
+    #[error(transparent)]
+    CircuitIdeal(#[from] crate::circuit::ideal::IdealError),
+    /// A kept slot is not one of the circuit's slots.
+    #[error("circuit \"{circuit}\" has no slot {slot}; its slots are {slots}")]
+    NoSuchCircuitSlot {
+        /// The circuit.
+        circuit: String,
+        /// The slot asked for.
+        slot: String,
+        /// The slots it has.
+        slots: String,
+    },
+    /// No stocked network set meets a circuit's hard constraints.
+    #[error("circuit \"{circuit}\": {reason}")]
+    CircuitInfeasible {
+        /// The circuit.
+        circuit: String,
+        /// What binds, and the closest design.
+        reason: String,
+    },
     /// The stock holds no piece at all (no rows, or every quantity 0), so no slot can be filled.
     #[error("{0}: no part has any pieces on hand, so no network can be built; expected at least one row with a quantity above 0 (or `biasfit order` for a shopping list)")]
     EmptyStock(String),
@@ -399,6 +427,18 @@ pub fn design(
     request: &Request,
     progress: &mut dyn FnMut(&str),
 ) -> Result<Outcome, DesignError> {
+    design_board(design, &[], stock, request, progress)
+}
+
+/// [`design`] of a board: the design file's stages and its circuits, filled from one stock by one integer
+/// program (a circuit is one more position beside the stages, with its own exact search).
+pub fn design_board(
+    design: &Design,
+    circuits: &[Circuit],
+    stock: &Stock,
+    request: &Request,
+    progress: &mut dyn FnMut(&str),
+) -> Result<Outcome, DesignError> {
     if stock.parts.iter().all(|p| p.qty == 0) {
         return Err(DesignError::EmptyStock(stock.file.clone()));
     }
@@ -419,10 +459,10 @@ pub fn design(
             now + d.saturating_duration_since(now) / 10
         });
         progress("a first design of single parts");
-        design_once(design, stock, &quick, &mut |_| {}).ok()
+        design_once(design, circuits, stock, &quick, &mut |_| {}).ok()
     })
     .flatten();
-    let full = design_full(design, stock, &mut attempt, progress);
+    let full = design_full(design, circuits, stock, &mut attempt, progress);
     let fall_back = |mut f: Outcome, bound: Option<f64>| {
         f.solver.status = "time limit".into();
         f.solver.result = "best found".into();
@@ -433,7 +473,13 @@ pub fn design(
         );
         f
     };
-    let worst = |o: &Outcome| o.built.iter().map(|b| b.error).fold(0.0, f64::max);
+    let worst = |o: &Outcome| {
+        o.built
+            .iter()
+            .map(|b| b.error)
+            .chain(o.circuits.built.iter().map(|b| b.error))
+            .fold(0.0, f64::max)
+    };
     match (full, fallback) {
         (Ok(o), Some(f)) if !o.solver.optimal() && worst(&f) < worst(&o) => {
             // The full search's bound holds for every design, the single-part one included.
@@ -448,12 +494,13 @@ pub fn design(
 /// [`design`] without the fallback: the full search, retried with more variants while the stock is scarce.
 fn design_full(
     design: &Design,
+    circuits: &[Circuit],
     stock: &Stock,
     attempt: &mut Request,
     progress: &mut dyn FnMut(&str),
 ) -> Result<Outcome, DesignError> {
     loop {
-        match design_once(design, stock, attempt, progress) {
+        match design_once(design, circuits, stock, attempt, progress) {
             Err(DesignError::Scarce(_)) if attempt.variants < MAX_VARIANTS => {
                 if attempt.deadline.is_some_and(|d| Instant::now() >= d) {
                     // More variants might have covered the boards, but there is no time to look.
@@ -476,9 +523,47 @@ fn design_full(
 /// The most variants a stage gets when the stock is scarce.
 pub const MAX_VARIANTS: usize = 3200;
 
+/// One slot's candidate networks within `window` of its ideal `x`. A huge stock with triples can hold
+/// billions of networks near a value: the window is narrowed until it holds a number the search can take,
+/// and the note says so. `owner` names the stage or circuit in messages, `slot` the slot.
+pub fn slot_candidates(
+    index: &Index,
+    x: Ohms,
+    window: f64,
+    owner: &str,
+    slot: &str,
+) -> Result<(Vec<Candidate>, Option<String>), DesignError> {
+    let mut w = window;
+    loop {
+        match index.in_window_until(x / w, x * w, CANDIDATE_LIMIT) {
+            Ok(list) => {
+                let note = (w < window).then(|| {
+                    format!(
+                        "{owner} {slot}: the stock offers so many networks that the search looked only within {} of the ideal {}",
+                        if w < 1.5 {
+                            format!("±{} %", crate::notation::trim_number((w - 1.0) * 100.0, 2))
+                        } else {
+                            format!("×{}", crate::notation::trim_number(w, 3))
+                        },
+                        crate::notation::code(x)
+                    )
+                });
+                return Ok((list, note));
+            }
+            Err(Cut::TooMany) => w = w.sqrt(),
+            Err(Cut::TimedOut) => {
+                return Err(DesignError::TimedOut(format!(
+                    "{owner} (finding {slot}'s networks)"
+                )))
+            }
+        }
+    }
+}
+
 /// One attempt of [`design`] with the request's number of variants.
 fn design_once(
     design: &Design,
+    circuits: &[Circuit],
     stock: &Stock,
     request: &Request,
     progress: &mut dyn FnMut(&str),
@@ -518,7 +603,7 @@ fn design_once(
             }
         }
         // This stage's share of the time left: candidates and search together.
-        let stage_deadline = share_of(deadline, design.stages.len() - si);
+        let stage_deadline = share_of(deadline, design.stages.len() + circuits.len() - si);
         let index = Index::new(stock, request.max_parts).until(stage_deadline);
         let mut candidates: Vec<Vec<Candidate>> = Vec::new();
         for &s in &slots {
@@ -534,36 +619,15 @@ fn design_once(
                 .values
                 .get(s)
                 .expect("the ideal design sets every slot");
-            // A huge stock with triples can hold billions of networks near a value: narrow the window
-            // until it holds a number the search can take, and say so.
-            let mut window = request.window;
-            loop {
-                match index.in_window_until(x / window, x * window, CANDIDATE_LIMIT) {
-                    Ok(list) => {
-                        candidates.push(list);
-                        break;
-                    }
-                    Err(Cut::TooMany) => window = window.sqrt(),
-                    Err(Cut::TimedOut) => {
-                        return Err(DesignError::TimedOut(format!(
-                            "stage \"{}\" (finding {s}'s networks)",
-                            stage.name
-                        )))
-                    }
-                }
-            }
-            if window < request.window {
-                narrowed.push(format!(
-                    "stage \"{}\" {s}: the stock offers so many networks that the search looked only within {} of the ideal {}",
-                    stage.name,
-                    if window < 1.5 {
-                        format!("±{} %", crate::notation::trim_number((window - 1.0) * 100.0, 2))
-                    } else {
-                        format!("×{}", crate::notation::trim_number(window, 3))
-                    },
-                    crate::notation::code(x)
-                ));
-            }
+            let (list, note) = slot_candidates(
+                &index,
+                x,
+                request.window,
+                &format!("stage \"{}\"", stage.name),
+                &s.to_string(),
+            )?;
+            candidates.push(list);
+            narrowed.extend(note);
         }
         let model = Model {
             stage,
@@ -649,8 +713,53 @@ fn design_once(
         worst_per_stage.push(worst_of);
         found_per_stage.push((slots, candidates, found));
     }
+    let mut circuit_searches: Vec<CircuitSearched> = Vec::new();
+    for (ci, c) in circuits.iter().enumerate() {
+        progress(&format!(
+            "circuit {} of {}: {}",
+            ci + 1,
+            circuits.len(),
+            c.name
+        ));
+        let until = share_of(deadline, circuits.len() - ci);
+        let index = Index::new(stock, request.max_parts).until(until);
+        let keep: Vec<(String, Network)> = request
+            .keep_circuit
+            .iter()
+            .filter(|(k, _, _)| *k == ci)
+            .map(|(_, s, n)| (s.clone(), n.clone()))
+            .collect();
+        let searched = search_circuit(ci, c, &index, stock, request, &keep, until)?;
+        evaluations += searched.effort.evaluations;
+        cut_short |= searched.effort.cut_short;
+        if searched.found.is_empty() {
+            return Err(DesignError::TimedOut(format!("circuit \"{}\"", c.name)));
+        }
+        floors.push(
+            searched
+                .effort
+                .proven_floor(searched.found.first().map(|f| f.error)),
+        );
+        narrowed.extend(searched.notes.iter().cloned());
+        for f in &searched.found {
+            variants.push(Variant {
+                stage: design.stages.len() + ci,
+                error: f.error,
+                parts: f.parts,
+                uses: f.uses.clone(),
+            });
+        }
+        circuit_searches.push(searched);
+    }
+    if request.robust && !circuits.is_empty() {
+        narrowed.push(
+            "circuits are chosen by their nominal error; the worst-case ranking covers the stages"
+                .into(),
+        );
+    }
+    let positions = design.stages.len() + circuits.len();
     progress("sharing the stock");
-    let allocation = match allocate(&variants, design.stages.len(), request.copies, &on_hand, deadline) {
+    let allocation = match allocate(&variants, positions, request.copies, &on_hand, deadline) {
         Ok(a) => a,
         Err(ShareError::TimedOut) => {
             return Err(DesignError::TimedOut(format!(
@@ -692,12 +801,59 @@ fn design_once(
             copies,
         }
     };
+    for cs in &circuit_searches {
+        offsets.push(at);
+        at += cs.found.len();
+    }
+    let stages = design.stages.len();
     let mut built = Vec::new();
+    let mut circuits_built = Vec::new();
     for &(vi, copies) in &allocation.chosen {
         let si = variants[vi].stage;
         let fi = vi - offsets[si];
-        built.push(to_built(si, fi, copies));
+        if si < stages {
+            built.push(to_built(si, fi, copies));
+        } else {
+            let ci = si - stages;
+            circuits_built.push(build_of(
+                ci,
+                &circuits[ci],
+                &circuit_searches[ci],
+                fi,
+                copies,
+            ));
+        }
     }
+    circuits_built.sort_by_key(|b| b.circuit);
+    let circuit_alternatives = (0..circuits.len())
+        .map(|ci| {
+            let chosen: Vec<usize> = allocation
+                .chosen
+                .iter()
+                .filter(|(vi, _)| variants[*vi].stage == stages + ci)
+                .map(|(vi, _)| vi - offsets[stages + ci])
+                .collect();
+            (0..circuit_searches[ci].found.len())
+                .filter(|fi| !chosen.contains(fi))
+                .take(request.alternatives)
+                .map(|fi| build_of(ci, &circuits[ci], &circuit_searches[ci], fi, 0))
+                .collect()
+        })
+        .collect();
+    let circuits = CircuitOutcome {
+        built: circuits_built,
+        alternatives: circuit_alternatives,
+        baseline: circuit_searches
+            .iter()
+            .map(|c| c.baseline.clone())
+            .collect(),
+        ideals: circuit_searches.iter().map(|c| c.ideal.clone()).collect(),
+        kept: request
+            .keep_circuit
+            .iter()
+            .map(|(c, s, _)| (*c, s.clone()))
+            .collect(),
+    };
     built.sort_by_key(|b| b.stage);
     let alternatives = (0..design.stages.len())
         .map(|si| {
@@ -720,7 +876,11 @@ fn design_once(
     let proven = allocation.proven && !cut_short;
     // No design beats its worst stage's proven floor; when every stage's search finished, the variants are
     // the exact K best and the program's own floor holds as well.
-    let worst = built.iter().map(|b| b.error).fold(0.0, f64::max);
+    let worst = built
+        .iter()
+        .map(|b| b.error)
+        .chain(circuits.built.iter().map(|b| b.error))
+        .fold(0.0, f64::max);
     let bound = if proven {
         Some(worst)
     } else if request.robust {
@@ -749,6 +909,7 @@ fn design_once(
             .iter()
             .map(|(s, slot, _)| (*s, *slot))
             .collect(),
+        circuits,
     })
 }
 

@@ -7,6 +7,7 @@
 //! over-drawn.
 
 pub mod circuit;
+pub mod circuit_step;
 pub mod design;
 pub mod search;
 pub mod share;

@@ -5,14 +5,60 @@
 //! "location","tolerance","power"}], "baseline":{"error", "stages":[…]}, "solver":{"seconds","variants",
 //! "status","evaluations","result","bound","time_limit"}, "copies", "alternatives":[…], "cautions":[…]}`.
 
+use super::circuit::{CircuitReport, Named};
 use super::{table, Report, StageReport};
+use crate::circuit::Circuit;
 use crate::notation::{code, engineering, trim_number};
+use crate::optimise::circuit_step::slot_names;
 use crate::optimise::design::{Baseline, Built, Outcome, SolverInfo};
 use crate::stage::Design;
 use crate::stock::Stock;
 use serde::Serialize;
 use std::collections::BTreeMap;
 use std::fmt::Write;
+
+/// A chosen build of one circuit: the circuit object, as `check --json` writes it, plus the design keys.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct BuiltCircuitReport {
+    /// The circuit object.
+    #[serde(flatten)]
+    pub circuit: CircuitReport,
+    /// Boards built this way.
+    pub copies: u32,
+    /// Each slot's ideal value, ohms.
+    pub ideal: Named<f64>,
+    /// The slot values rounded by hand, and how they do.
+    pub baseline: CircuitBaselineReport,
+    /// The next-best designs of this circuit, best first.
+    pub alternatives: Vec<CircuitAlternative>,
+    /// Slots kept as already fitted.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub kept: Vec<String>,
+}
+
+/// A circuit's hand-rounded baseline.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CircuitBaselineReport {
+    /// Its error.
+    pub error: f64,
+    /// Whether the stock holds its parts for every board.
+    pub in_stock: bool,
+    /// Whether it meets the hard constraints.
+    pub feasible: bool,
+    /// The checks it fails, in words.
+    pub fails: Vec<String>,
+    /// Each slot's network notation.
+    pub slots: Named<String>,
+}
+
+/// A next-best design of a circuit.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct CircuitAlternative {
+    /// Its error.
+    pub error: f64,
+    /// Each slot's network notation.
+    pub slots: Named<String>,
+}
 
 /// A chosen build of one stage, with how many boards use it.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -88,6 +134,9 @@ pub struct Alternative {
 pub struct DesignReport {
     /// The chosen builds, in stage order.
     pub stages: Vec<BuiltStage>,
+    /// The chosen builds of the circuits, in circuit order; left out when the file has none.
+    #[serde(skip_serializing_if = "Vec::is_empty")]
+    pub circuits: Vec<BuiltCircuitReport>,
     /// Boards the design is for.
     pub copies: u32,
     /// What to pull from stock, for all boards.
@@ -193,6 +242,7 @@ impl DesignReport {
                 })
                 .collect(),
             stages,
+            circuits: Vec::new(),
             copies,
             pick,
             solver: outcome.solver.clone(),
@@ -228,6 +278,177 @@ impl DesignReport {
         self.stages
             .iter()
             .all(|s| s.stage.checks.iter().all(|c| c.ok))
+            && self.circuits.iter().all(|c| c.circuit.all_ok())
+    }
+
+    /// Adds the circuits of the design (`circuits`, as the outcome's indices count them): each chosen
+    /// build's circuit object with its design keys, their parts on the pick list, their cautions, and
+    /// their baselines in the board's baseline error. A build the engine cannot solve is left out.
+    pub fn with_circuits(mut self, circuits: &[Circuit], stock: &Stock, outcome: &Outcome) -> Self {
+        let co = &outcome.circuits;
+        let slot_map = |c: &Circuit, nets: &[crate::network::Network]| {
+            Named(
+                slot_names(c)
+                    .into_iter()
+                    .zip(nets)
+                    .map(|(s, n)| (s, n.notation()))
+                    .collect(),
+            )
+        };
+        for b in &co.built {
+            let c = &circuits[b.circuit];
+            let Ok(report) = CircuitReport::new(c, &b.networks) else {
+                continue;
+            };
+            let base = &co.baseline[b.circuit];
+            self.circuits.push(BuiltCircuitReport {
+                circuit: report,
+                copies: b.copies,
+                ideal: Named(
+                    slot_names(c)
+                        .into_iter()
+                        .zip(&co.ideals[b.circuit].values)
+                        .map(|(s, v)| (s, v.0))
+                        .collect(),
+                ),
+                baseline: CircuitBaselineReport {
+                    error: base.error,
+                    in_stock: base.in_stock,
+                    feasible: base.feasible,
+                    fails: base.fails.clone(),
+                    slots: slot_map(c, &base.networks),
+                },
+                alternatives: co.alternatives[b.circuit]
+                    .iter()
+                    .map(|a| CircuitAlternative {
+                        error: a.error,
+                        slots: slot_map(c, &a.networks),
+                    })
+                    .collect(),
+                kept: co
+                    .kept
+                    .iter()
+                    .filter(|(ci, _)| *ci == b.circuit)
+                    .map(|(_, s)| s.clone())
+                    .collect(),
+            });
+        }
+        let mut counts: BTreeMap<usize, u32> = BTreeMap::new();
+        for b in &co.built {
+            for net in &b.networks {
+                for m in net.members() {
+                    if let Some(p) = m.part {
+                        *counts.entry(p).or_default() += b.copies;
+                    }
+                }
+            }
+        }
+        for (p, count) in counts {
+            let part = &stock.parts[p];
+            match self.pick.iter_mut().find(|l| {
+                l.ohms == part.ohms.0
+                    && l.location == part.location()
+                    && l.power == part.power.0
+                    && l.tolerance == part.tolerance.0
+            }) {
+                Some(l) => l.count += count,
+                None => self.pick.push(PickLine {
+                    ohms: part.ohms.0,
+                    count,
+                    location: part.location(),
+                    tolerance: part.tolerance.0,
+                    power: part.power.0,
+                }),
+            }
+        }
+        self.pick
+            .sort_by(|a, b| a.location.cmp(&b.location).then(a.ohms.total_cmp(&b.ohms)));
+        for c in &self.circuits {
+            for k in c.circuit.cautions() {
+                if !self.cautions.contains(&k) {
+                    self.cautions.push(k);
+                }
+            }
+        }
+        self.baseline.error = co
+            .baseline
+            .iter()
+            .map(|b| b.error)
+            .fold(self.baseline.error, f64::max);
+        self
+    }
+}
+
+/// One circuit's part of the design text: its check sheet, boards, the baseline beside the choice, the
+/// ideal, and its next-best designs.
+fn render_circuit(out: &mut String, c: &BuiltCircuitReport, copies: u32, colour: bool) {
+    let single = Report {
+        stages: Vec::new(),
+        circuits: vec![c.circuit.clone()],
+        cautions: Vec::new(),
+    };
+    out.push_str(&table::render_check(&single, colour));
+    if copies > 1 {
+        let _ = writeln!(out, "  built this way on {} of {copies} boards", c.copies);
+    }
+    let slots = |m: &Named<String>| {
+        m.0.iter()
+            .map(|(k, v)| format!("{k}={v}"))
+            .collect::<Vec<_>>()
+            .join(",")
+    };
+    let ideal: Vec<String> = c
+        .ideal
+        .0
+        .iter()
+        .map(|(k, v)| format!("{k}={}", code(crate::units::Ohms(*v))))
+        .collect();
+    let _ = writeln!(out, "\n  ideal:              {}", ideal.join(","));
+    let b = &c.baseline;
+    let _ = writeln!(
+        out,
+        "  rounded by hand ({}): error {}{}{}",
+        slots(&b.slots),
+        if b.error.is_finite() {
+            percent(b.error)
+        } else {
+            "no operating point".into()
+        },
+        if b.in_stock {
+            ""
+        } else {
+            ", parts not all in stock"
+        },
+        if b.feasible {
+            String::new()
+        } else {
+            format!(", fails {}", b.fails.join("; "))
+        },
+    );
+    let _ = writeln!(
+        out,
+        "  biasfit's choice:   error {}",
+        percent(c.circuit.error)
+    );
+    if !c.kept.is_empty() {
+        let _ = writeln!(
+            out,
+            "  already fitted (kept, not pulled): {}",
+            c.kept.join(", ")
+        );
+    }
+    if c.circuit.error > 0.05 {
+        let _ = writeln!(
+            out,
+            "  note: the closest the stock allows is {} from target; the order command finds what to buy to come closer",
+            percent(c.circuit.error)
+        );
+    }
+    if !c.alternatives.is_empty() {
+        let _ = writeln!(out, "  next-best designs");
+        for a in &c.alternatives {
+            let _ = writeln!(out, "    {:>8}  {}", percent(a.error), slots(&a.slots));
+        }
     }
 }
 
@@ -299,6 +520,12 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
         for n in &s.ideal_fails {
             let _ = writeln!(out, "  note: {n}");
         }
+    }
+    for (i, c) in r.circuits.iter().enumerate() {
+        if i > 0 || !r.stages.is_empty() {
+            out.push('\n');
+        }
+        render_circuit(&mut out, c, r.copies, colour);
     }
     if !r.alternatives.is_empty() {
         let _ = writeln!(out, "\nnext-best designs");
