@@ -655,3 +655,20 @@ fn a_stage_passes_on_target_within_the_bench_band() {
     // One rule, two places: the check's "on target" and the bench's "acceptable" are the same 10 %.
     assert_eq!(crate::stage::TARGET_ERROR, super::ACCEPTABLE);
 }
+
+#[test]
+fn a_low_gain_part_is_named_beside_a_reversed_one() {
+    // A transistor put in the right way round but with a beta of 4, far below the range 90–320, reads at DC
+    // as a reversed one: the explanation that matches says both.
+    let (st, nets) = divider_build();
+    let n = faults::simulate(&st, &nets, None, 4.0);
+    let v = verify(&st, &nets, &readings(&n));
+    let top = &v.explanations[0];
+    assert_eq!(top.fault, Fault::Reversed, "{v:?}");
+    let words = top.fault.describe(&nets);
+    assert!(
+        words.contains("backwards") && words.contains("little gain"),
+        "{words}"
+    );
+    assert!(top.fault.advice(&nets).contains("gain out of circuit"));
+}

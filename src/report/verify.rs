@@ -453,7 +453,10 @@ pub fn render(r: &VerifyReport, heading: &str) -> String {
             volts(e.nodes.ve),
             volts(e.nodes.vc),
             if e.fault == "reversed-transistor" {
-                format!(" (reverse beta {})", trim_number(e.beta, 2))
+                format!(
+                    " (beta {}: reversed, or that little gain)",
+                    trim_number(e.beta, 2)
+                )
             } else {
                 String::new()
             }
