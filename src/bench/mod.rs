@@ -20,6 +20,7 @@
 
 pub mod circuit;
 pub mod faults;
+pub mod next;
 
 pub use faults::{Fault, Nodes, Place};
 
@@ -238,6 +239,8 @@ pub struct Verification {
     pub as_built_score: f64,
     /// Faults that explain the readings better than the design does, best first.
     pub explanations: Vec<Explanation>,
+    /// When the best explanations are tied, the one further measurement that separates them best.
+    pub next: Option<next::NextMeasurement>,
 }
 
 fn node_array(n: &Nodes) -> [f64; 3] {
@@ -339,7 +342,7 @@ fn minimise(lo: f64, hi: f64, f: &dyn Fn(f64) -> f64) -> (f64, f64) {
 
 /// The best match of a hypothesis (None: as designed) over its beta range: (score, beta, prediction). The
 /// fault's slot values are worked out once; only the solve runs for each beta tried.
-fn best_match(
+pub(crate) fn best_match(
     stage: &Stage,
     prepared: &faults::Prepared,
     fault: Option<&Fault>,
@@ -578,6 +581,7 @@ pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verifi
     let floor = as_built_score.max(MIN_SCORE);
     merged.retain(|e| e.score > floor);
     merged.truncate(TOP);
+    let next = next::separate(stage, nets, &measured, &next::tied(&merged));
 
     Verification {
         measured,
@@ -590,6 +594,7 @@ pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verifi
         beta,
         as_built_score,
         explanations: merged,
+        next,
     }
 }
 

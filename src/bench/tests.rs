@@ -672,3 +672,90 @@ fn a_low_gain_part_is_named_beside_a_reversed_one() {
     );
     assert!(top.fault.advice(&nets).contains("gain out of circuit"));
 }
+
+#[test]
+fn every_pair_of_faults_that_read_alike_is_told_apart_by_the_named_measurement() {
+    // On the divider with networks of both shapes and on every topology's E24 build: each two faults of
+    // the catalogue whose VB, VE and VC agree within 1 mV (a meter cannot tell them apart) get a further
+    // measurement, and the two predictions there are apart by a meter's margin (0.1 V, or 10 % out of
+    // circuit).
+    let mut builds = vec![divider_build()];
+    for t in [
+        "divider-split",
+        "collector-feedback",
+        "dual-supply",
+        "base-resistor",
+    ] {
+        let st = stage(t, "npn");
+        let nets = e24_build(&st);
+        builds.push((st, nets));
+    }
+    let mut pairs = 0;
+    for (st, nets) in &builds {
+        let cat: Vec<Fault> = faults::catalogue(st, nets)
+            .into_iter()
+            .filter(|f| !is_null(nets, f))
+            .collect();
+        let beta = |f: &Fault| if *f == Fault::Reversed { 3.0 } else { 160.0 };
+        let sims: Vec<Nodes> = cat
+            .iter()
+            .map(|f| faults::simulate(st, nets, Some(f), beta(f)))
+            .collect();
+        for a in 0..cat.len() {
+            for b in a + 1..cat.len() {
+                let (x, y) = (node_array(&sims[a]), node_array(&sims[b]));
+                if !x.iter().zip(y).all(|(p, q)| (p - q).abs() <= 1e-3) {
+                    continue;
+                }
+                // A bridge across any member of a parallel network is a bridge across all of it: one fault
+                // on the board, not two to tell apart.
+                if let (Fault::Short(p), Fault::Short(q)) = (cat[a], cat[b]) {
+                    if p.slot == q.slot && matches!(nets.get(p.slot), Some(Network::Parallel(_))) {
+                        continue;
+                    }
+                }
+                // On a dual supply the missing ground is RB's return: the same break as RB open.
+                if st.topology == Topology::DualSupply
+                    && cat[a] == Fault::MissingGround
+                    && matches!(cat[b], Fault::Open(p) if p.slot == Slot::RB)
+                {
+                    continue;
+                }
+                pairs += 1;
+                let m = readings(&sims[a]);
+                let n = next::separate(st, nets, &m, &[cat[a], cat[b]]).unwrap_or_else(|| {
+                    panic!(
+                        "{}: nothing tells {:?} from {:?}",
+                        st.topology, cat[a], cat[b]
+                    )
+                });
+                let (p, q) = (n.predictions[0].1, n.predictions[1].1);
+                let apart = if n.what.in_ohms() {
+                    p.is_infinite() != q.is_infinite()
+                        || (p - q).abs() >= next::SEPARATES_OHMS * p.max(q)
+                } else {
+                    (p - q).abs() >= next::SEPARATES
+                };
+                assert!(apart, "{}: {:?} {:?}: {n:?}", st.topology, cat[a], cat[b]);
+            }
+        }
+    }
+    assert!(
+        pairs >= 3,
+        "only {pairs} alike pairs: the test exercises too little"
+    );
+}
+
+#[test]
+fn a_tie_names_the_next_measurement_in_the_verification() {
+    // R1 open and R2 shorted both leave the base at 0 V: the verification says what settles it.
+    let (st, nets) = divider_build();
+    let f = Fault::Short(Place {
+        slot: Slot::R2,
+        member: 0,
+    });
+    let seen = faults::simulate(&st, &nets, Some(&f), 160.0);
+    let v = verify(&st, &nets, &readings(&seen));
+    let n = v.next.expect("a tie was left unsettled");
+    assert!(n.predictions.iter().any(|(g, _)| *g == f), "{n:?}");
+}

@@ -144,6 +144,72 @@ pub struct ExplanationReport {
     pub nodes: NodeReport,
 }
 
+/// One tied explanation's prediction of the next measurement.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct NextPredictionReport {
+    /// The fault's kind.
+    pub fault: &'static str,
+    /// Its slot, if any.
+    pub slot: Option<&'static str>,
+    /// In words.
+    pub description: String,
+    /// What it predicts: volts (from real ground for a node, across for a slot or member), or ohms out of
+    /// circuit (null for an open).
+    pub value: Option<f64>,
+}
+
+/// The measurement that settles a tie between the best explanations.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct NextMeasurementReport {
+    /// node, across, across-member or out-of-circuit.
+    pub kind: &'static str,
+    /// The node (VB, VE or VC) for a node reading.
+    pub node: Option<&'static str>,
+    /// The slot measured across or lifted.
+    pub slot: Option<&'static str>,
+    /// The member, from 1, for a member of a network.
+    pub member: Option<usize>,
+    /// "V" or "Ω".
+    pub unit: &'static str,
+    /// What to measure, in words.
+    pub description: String,
+    /// Each tied explanation's prediction.
+    pub predictions: Vec<NextPredictionReport>,
+}
+
+fn next_report(
+    n: &crate::bench::next::NextMeasurement,
+    nets: &SlotNetworks,
+) -> NextMeasurementReport {
+    use crate::bench::next::Measurement;
+    let (node, slot, member) = match n.what {
+        Measurement::Node(name) => (Some(name), None, None),
+        Measurement::Across(s) | Measurement::PowerOffAcross(s) => (None, Some(s.name()), None),
+        Measurement::AcrossMember(p) | Measurement::OutOfCircuit(p) => {
+            let many = nets.get(p.slot).is_some_and(|n| n.part_count() > 1);
+            (None, Some(p.slot.name()), many.then_some(p.member + 1))
+        }
+    };
+    NextMeasurementReport {
+        kind: n.what.kind(),
+        node,
+        slot,
+        member,
+        unit: if n.what.in_ohms() { "Ω" } else { "V" },
+        description: n.what.describe(nets),
+        predictions: n
+            .predictions
+            .iter()
+            .map(|(f, v)| NextPredictionReport {
+                fault: f.kind(),
+                slot: f.slot().map(|s| s.name()),
+                description: f.describe(nets),
+                value: v.is_finite().then_some(*v),
+            })
+            .collect(),
+    }
+}
+
 /// Everything `biasfit verify` found.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct VerifyReport {
@@ -178,6 +244,8 @@ pub struct VerifyReport {
     pub magnitudes: bool,
     /// The voltages as a meter reads them from real ground.
     pub nodes: RealNodes,
+    /// When the best explanations are tied, the one further measurement that separates them best.
+    pub next_measurement: Option<NextMeasurementReport>,
 }
 
 fn alike(f: &Fault, nets: &SlotNetworks) -> AlikeReport {
@@ -255,6 +323,7 @@ impl VerifyReport {
                 predicted_min_beta: NodeReport::real(&v.predicted_min_beta, stage),
                 predicted_max_beta: NodeReport::real(&v.predicted_max_beta, stage),
             },
+            next_measurement: v.next.as_ref().map(|n| next_report(n, nets)),
         }
     }
 
@@ -465,6 +534,26 @@ pub fn render(r: &VerifyReport, heading: &str) -> String {
         if !e.alike.is_empty() {
             let names: Vec<&str> = e.alike.iter().map(|a| a.description.as_str()).collect();
             let _ = writeln!(out, "             reads the same as: {}", names.join("; "));
+        }
+    }
+    if let Some(n) = &r.next_measurement {
+        let _ = writeln!(out, "\n  to tell them apart, measure {}:", n.description);
+        let rows: Vec<(String, String)> = n
+            .predictions
+            .iter()
+            .map(|p| {
+                let shown = match (p.value, n.unit) {
+                    (None, _) => "open".to_string(),
+                    (Some(v), "Ω") => crate::bench::next::ohms_text(v),
+                    (Some(v), _) => volts(v),
+                };
+                (shown, p.description.clone())
+            })
+            .collect();
+        let w = rows.iter().map(|r| r.0.chars().count()).max().unwrap_or(0);
+        for (shown, words) in rows {
+            let pad = " ".repeat(w - shown.chars().count());
+            let _ = writeln!(out, "    {pad}{shown}  if {words}");
         }
     }
     out
