@@ -10,7 +10,7 @@
 use biasfit::circuit::of_stage::of_stage;
 use biasfit::circuit::{Build, Circuit, Element, Options, Solver};
 use biasfit::stage::design::{DEFAULT_LIMITS, DEFAULT_RULE};
-use biasfit::stage::{Beta, Polarity, SlotValues, Stage, Topology, Transistor, Vbe};
+use biasfit::stage::{Beta, Ground, Polarity, SlotValues, Stage, Topology, Transistor, Vbe};
 use biasfit::units::{Amps, Celsius, Ohms, Volts};
 use std::hint::black_box;
 use std::time::Instant;
@@ -51,6 +51,11 @@ fn stage(topology: Topology, vbe: Vbe) -> Stage {
         polarity: Polarity::Npn,
         supply: Volts(15.0),
         supply_neg: (topology == Topology::DualSupply).then_some(Volts(9.0)),
+        ground: if topology == Topology::DualSupply {
+            Ground::Between
+        } else {
+            Ground::Emitter
+        },
         load: Some(Ohms(3900.0)),
         ic: None,
         transistor: transistor(vbe),

@@ -9,7 +9,7 @@ use biasfit::circuit::of_stage::of_stage;
 use biasfit::circuit::{Options, Pick, Solver};
 use biasfit::stage::design::{DEFAULT_LIMITS, DEFAULT_RULE};
 use biasfit::stage::{
-    Beta, Limits, Polarity, Region, Slot, SlotValues, Stage, Topology, Transistor, Vbe,
+    Beta, Ground, Limits, Polarity, Region, Slot, SlotValues, Stage, Topology, Transistor, Vbe,
 };
 use biasfit::units::{Amps, Celsius, Ohms, Volts};
 use proptest::prelude::*;
@@ -87,6 +87,11 @@ fn case(topology: Topology, polarity: Polarity, diode: bool, u: &[f64; 12]) -> C
         polarity,
         supply: Volts(supply),
         supply_neg: (topology == Topology::DualSupply).then(|| Volts(0.3 + 14.7 * u[7])),
+        ground: if topology == Topology::DualSupply {
+            Ground::Between
+        } else {
+            Ground::Emitter
+        },
         load: Some(Ohms(4700.0)),
         ic: None,
         transistor,

@@ -159,6 +159,47 @@ fn the_json_contract() {
 }
 
 #[test]
+fn the_pnp_example_built_well_and_read_from_ground_is_good() {
+    // Issue 14's repro: the PNP hangs from +9 V, so a meter from ground reads about 7.6 V at the emitter
+    // (the hand analysis is in bench::tests::the_pnp_example_reads_as_its_real_circuit).
+    let out = biasfit(&[
+        "verify",
+        "examples/pnp-stage.toml",
+        "--use",
+        "R1=27k,R2=8k2,RC=3k3,RE=1k",
+        "--measured",
+        "VB=6.97,VE=7.6,VC=4.59",
+        "--json",
+    ]);
+    assert_eq!(out.status.code(), Some(0), "{}", stderr(&out));
+    let v: serde_json::Value = serde_json::from_slice(&out.stdout).unwrap();
+    assert_eq!(v["verdict"], "good", "{v}");
+    assert_eq!(v["ground"], "collector");
+    assert_eq!(v["magnitudes"], false);
+    assert_eq!(v["nodes"]["emitter_rail"], 9.0);
+    assert_eq!(v["nodes"]["collector_rail"], 0.0);
+    assert!((v["nodes"]["measured"]["ve"].as_f64().unwrap() - 7.6).abs() < 1e-9);
+    // The old keys keep their meaning: magnitudes from the emitter-side rail.
+    assert!(
+        (v["measured"]["ve"].as_f64().unwrap() - 1.4).abs() < 1e-9,
+        "{v}"
+    );
+    // The same build read the old way, as magnitudes, is understood too, and says so on one line.
+    let old = biasfit(&[
+        "verify",
+        "examples/pnp-stage.toml",
+        "--use",
+        "R1=27k,R2=8k2,RC=3k3,RE=1k",
+        "--measured",
+        "VB=2.03,VE=1.4,VC=4.41",
+    ]);
+    assert_eq!(old.status.code(), Some(0), "{}", stderr(&old));
+    let text = String::from_utf8_lossy(&old.stdout);
+    assert!(text.contains("readings taken as magnitudes"), "{text}");
+    assert!(text.contains("verdict: good"), "{text}");
+}
+
+#[test]
 fn pnp_readings_negative_or_as_magnitudes() {
     let file = "examples/pnp-stage.toml";
     let st = stage::load(file.as_ref()).unwrap().stages.remove(0);

@@ -13,7 +13,8 @@
 //! - a reversed transistor (emitter and collector swapped): modelled as a transistor whose beta is its low
 //!   reverse beta, 1 to 20 (from memory: small-signal parts are typically somewhere in that range). The
 //!   model ignores the breakdown of the reverse-biased emitter–base junction (from memory, about 5 to 9 V),
-//!   so with a larger supply the real readings may differ;
+//!   so with a larger supply the real readings may differ. A sound part of far too little gain (damaged, or
+//!   the wrong type) is the same model at DC, so the explanation names both;
 //! - a missing ground: on a single-supply stage nothing returns to 0 V, no current flows and every node
 //!   floats up to the supply; on a dual-supply stage the ground is the base resistor's return, so the base is
 //!   left open (which reads the same as RB open).
@@ -135,7 +136,13 @@ impl Fault {
             Fault::Swapped(a, b) => format!("{a} and {b} swapped"),
             Fault::Open(p) => format!("{} open", part(p)),
             Fault::Short(p) => format!("{} shorted", part(p)),
-            Fault::Reversed => "transistor in backwards: emitter and collector swapped".to_string(),
+            // At DC a reversed part is a transistor of beta 1 to 20, so a sound part of far too little gain
+            // (a damaged one, or the wrong type) reads the same: the words name both.
+            Fault::Reversed => {
+                "transistor in backwards (emitter and collector swapped), or a part of far too \
+                                little gain: at DC the two read alike"
+                    .to_string()
+            }
             Fault::MissingGround => "the ground connection is missing".to_string(),
         }
     }
@@ -163,7 +170,9 @@ impl Fault {
                     .to_string()
             }
             Fault::Reversed => {
-                "check the transistor's pinout against its data sheet (pin orders differ between cases)"
+                "check the transistor's pinout against its data sheet (pin orders differ between cases); \
+                 if it is the right way round, lift it and measure its gain out of circuit: far below the \
+                 range is a low-gain or damaged part"
                     .to_string()
             }
             Fault::MissingGround => {

@@ -20,6 +20,7 @@
 
 pub mod circuit;
 pub mod faults;
+pub mod next;
 
 pub use faults::{Fault, Nodes, Place};
 
@@ -143,19 +144,21 @@ impl Measured {
         [self.vb, self.ve, self.vc].map(|v| v.map(|v| v.0))
     }
 
-    /// The readings in the stage model's NPN frame. An NPN stage's readings are taken as they are. A PNP
-    /// stage's real voltages are its NPN mirror's negated. On a single supply every node of the mirror lies
-    /// between 0 V and the supply, so a reading is taken by its magnitude: the meter's negative reading and
-    /// a magnitude mean the same. On a dual supply the nodes lie on both sides of ground, so the readings
-    /// must carry the meter's signs, and are negated.
+    /// The readings in the stage model's NPN frame, taking them as a meter reads them from the circuit's
+    /// real ground ([`Stage::mirror`]).
     pub fn in_npn_frame(&self, stage: &Stage) -> Measured {
-        let map = |v: Option<Volts>| -> Option<Volts> {
-            v.map(|v| match (stage.polarity, stage.topology) {
-                (Polarity::Npn, _) => v,
-                (Polarity::Pnp, Topology::DualSupply) => -v,
-                (Polarity::Pnp, _) => v.abs(),
-            })
-        };
+        let map = |v: Option<Volts>| v.map(|v| stage.mirror(v));
+        Measured {
+            vb: map(self.vb),
+            ve: map(self.ve),
+            vc: map(self.vc),
+        }
+    }
+
+    /// The readings taken as magnitudes of the NPN mirror (from the emitter-side rail, signs dropped): how
+    /// biasfit took a PNP stage's readings before it knew where the stage sits.
+    pub fn as_magnitudes(&self) -> Measured {
+        let map = |v: Option<Volts>| v.map(|v| v.abs());
         Measured {
             vb: map(self.vb),
             ve: map(self.ve),
@@ -217,6 +220,9 @@ pub struct Explanation {
 pub struct Verification {
     /// The readings, in the NPN frame.
     pub measured: Measured,
+    /// Whether the readings were taken as the NPN mirror's magnitudes rather than as voltages from real
+    /// ground (a PNP stage's readings given the old way, which matched the design better so).
+    pub magnitudes: bool,
     /// The prediction at typical beta and ambient (NPN frame).
     pub predicted: Nodes,
     /// The predictions at min and max beta, for the range a good build may show.
@@ -233,6 +239,8 @@ pub struct Verification {
     pub as_built_score: f64,
     /// Faults that explain the readings better than the design does, best first.
     pub explanations: Vec<Explanation>,
+    /// When the best explanations are tied, the one further measurement that separates them best.
+    pub next: Option<next::NextMeasurement>,
 }
 
 fn node_array(n: &Nodes) -> [f64; 3] {
@@ -334,7 +342,7 @@ fn minimise(lo: f64, hi: f64, f: &dyn Fn(f64) -> f64) -> (f64, f64) {
 
 /// The best match of a hypothesis (None: as designed) over its beta range: (score, beta, prediction). The
 /// fault's slot values are worked out once; only the solve runs for each beta tried.
-fn best_match(
+pub(crate) fn best_match(
     stage: &Stage,
     prepared: &faults::Prepared,
     fault: Option<&Fault>,
@@ -513,7 +521,34 @@ const ALIKE: f64 = 1e-3;
 pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verification {
     let b = stage.transistor.beta;
     let predicted = faults::simulate(stage, nets, None, b.typ);
-    let measured = readings.in_npn_frame(stage);
+    let prepared = faults::Prepared::new(stage, nets);
+    let real = readings.in_npn_frame(stage);
+    // The stage as designed, and every fault, against a reading of the build.
+    let explain = |m: &Measured| {
+        let as_built = best_match(stage, &prepared, None, m).0;
+        let ranked = rank_prepared(stage, nets, &prepared, m);
+        let best = ranked.first().map_or(as_built, |e| e.score.max(as_built));
+        (as_built, ranked, best)
+    };
+    let (measured, magnitudes, (as_built_score, ranked, _)) = {
+        let on_real = explain(&real);
+        let old = readings.as_magnitudes();
+        if stage.polarity == Polarity::Pnp && stage.topology != Topology::DualSupply && old != real
+        {
+            // A PNP stage's readings once had to be given as its mirror's magnitudes. Both ways are still
+            // understood: the one that the design or a fault explains better is taken (on a negative rail a
+            // magnitude has the wrong sign for a real reading; on a positive rail VE from ground is the
+            // supply less VE from the rail, far apart unless the stage sits near mid-supply).
+            let on_old = explain(&old);
+            if on_old.2 > on_real.2 {
+                (old, true, on_old)
+            } else {
+                (real, false, on_real)
+            }
+        } else {
+            (real, false, on_real)
+        }
+    };
     let p = node_array(&predicted);
     let m = measured.as_array();
     let deviations = [0, 1, 2].map(|k| m[k].map(|m| deviation(m, p[k])));
@@ -532,8 +567,6 @@ pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verifi
         Verdict::Fault
     };
 
-    let prepared = faults::Prepared::new(stage, nets);
-    let (as_built_score, _, _) = best_match(stage, &prepared, None, &measured);
     // Beta is worth estimating when the design, with some beta, explains the readings.
     let wide = {
         let values = nets.values();
@@ -544,13 +577,15 @@ pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verifi
     };
     let beta = (wide >= 0.5).then(|| estimate_beta(stage, nets, &measured));
 
-    let mut merged = rank_prepared(stage, nets, &prepared, &measured);
+    let mut merged = ranked;
     let floor = as_built_score.max(MIN_SCORE);
     merged.retain(|e| e.score > floor);
     merged.truncate(TOP);
+    let next = next::separate(stage, nets, &measured, &next::tied(&merged));
 
     Verification {
         measured,
+        magnitudes,
         predicted,
         predicted_min_beta: faults::simulate(stage, nets, None, b.min),
         predicted_max_beta: faults::simulate(stage, nets, None, b.max),
@@ -559,6 +594,7 @@ pub fn verify(stage: &Stage, nets: &SlotNetworks, readings: &Measured) -> Verifi
         beta,
         as_built_score,
         explanations: merged,
+        next,
     }
 }
 

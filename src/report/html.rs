@@ -226,10 +226,12 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
             e(n)
         );
     }
-    if r.is_pnp() {
-        out.push_str(
-            "<p class=\"meta\">PNP: the numbers are its NPN mirror's; every real voltage and current has the \
-             opposite sign.</p>\n",
+    let note = super::table::ground_note(r);
+    if !note.is_empty() {
+        let _ = writeln!(
+            out,
+            "<p class=\"meta\">{}</p>",
+            e(note.trim().trim_matches(['(', ')']))
         );
     }
     let _ = writeln!(
@@ -309,7 +311,12 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
     };
     row("IC", amps(t.ic), amps(r.op.ic), Some(d.ic));
     row("VCE", volts(t.vce), volts(r.op.vce), Some(d.vce));
-    row("VE", volts(t.ve), volts(r.op.ve), d.ve);
+    row(
+        "VE",
+        volts(r.nodes.target_ve),
+        volts(r.nodes.typical.ve),
+        d.ve.map(|d| super::table::real_sign(r, d)),
+    );
     if let (Some(rl), Some(dr)) = (t.rc, d.rc) {
         let rc = s.networks.get(Slot::RC).map_or(f64::NAN, |n| n.ohms().0);
         row("RC against RL", code(Ohms(rl)), code(Ohms(rc)), Some(dr));
@@ -324,7 +331,8 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
     }
     out.push_str("</tbody></table>\n");
 
-    let ops = [&r.corners.min_beta, &r.op, &r.corners.max_beta];
+    let shown = super::table::shown_ops(r);
+    let ops = [&shown[0], &shown[1], &shown[2]];
     out.push_str("<table><thead><tr><th>over the beta range</th>");
     for (label, o) in ["min", "typical", "max"].iter().zip(ops) {
         let _ = write!(
@@ -377,8 +385,8 @@ fn stage_section(out: &mut String, n: usize, s: &SheetStage) {
         load_line_svg(&s.load_line)
     );
 
-    let o = &r.op;
-    let (lo, hi) = (&r.corners.min_beta, &r.corners.max_beta);
+    let o = &r.nodes.typical;
+    let (lo, hi) = (&r.nodes.min_beta, &r.nodes.max_beta);
     let range = |a: f64, b: f64| format!("{} to {}", volts(a.min(b)), volts(a.max(b)));
     let _ = writeln!(
         out,

@@ -151,6 +151,50 @@ impl From<&OperatingPoint> for OpReport {
     }
 }
 
+/// Base, emitter and collector voltages as a meter reads them from the circuit's real ground, volts.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct RealVolts {
+    /// Base.
+    pub vb: f64,
+    /// Emitter.
+    pub ve: f64,
+    /// Collector.
+    pub vc: f64,
+}
+
+impl RealVolts {
+    /// The operating point's node voltages from the stage's real ground.
+    pub fn of(stage: &Stage, op: &OperatingPoint) -> RealVolts {
+        RealVolts {
+            vb: stage.real(op.vb).0,
+            ve: stage.real(op.ve).0,
+            vc: stage.real(op.vc).0,
+        }
+    }
+}
+
+/// Where a stage sits, and its node voltages from real ground with their signs (the other voltages of a
+/// stage report are its NPN mirror's, magnitudes for a PNP stage).
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct StageNodes {
+    /// Which side of the stage is ground: emitter, collector or between (dual supply).
+    pub ground: &'static str,
+    /// The collector-side rail, volts from ground.
+    pub collector_rail: f64,
+    /// The emitter-side rail, volts from ground.
+    pub emitter_rail: f64,
+    /// VB* and VE* of the targets, from ground.
+    pub target_vb: f64,
+    /// See `target_vb`.
+    pub target_ve: f64,
+    /// At typical beta and ambient.
+    pub typical: RealVolts,
+    /// At min beta.
+    pub min_beta: RealVolts,
+    /// At max beta.
+    pub max_beta: RealVolts,
+}
+
 /// One physical resistor of a slot.
 #[derive(Clone, Debug, PartialEq, Serialize)]
 pub struct PartReport {
@@ -317,6 +361,8 @@ pub struct StageReport {
     /// Whether the supplies reach 50 V DC.
     #[serde(skip)]
     pub high_voltage: bool,
+    /// Where the stage sits and its node voltages from real ground, signed.
+    pub nodes: StageNodes,
 }
 
 /// The operating points at the beta extremes.
@@ -358,6 +404,20 @@ impl StageReport {
         let op = stage.typical(&values);
         let b = stage.transistor.beta;
         let ambient = stage.limits.ambient;
+        let (op_lo, op_hi) = (
+            stage.solve(&values, b.min, ambient),
+            stage.solve(&values, b.max, ambient),
+        );
+        let nodes = StageNodes {
+            ground: stage.ground.name(),
+            collector_rail: stage.collector_rail().0,
+            emitter_rail: stage.emitter_rail().0,
+            target_vb: stage.real(t.vb).0,
+            target_ve: stage.real(t.ve).0,
+            typical: RealVolts::of(stage, &op),
+            min_beta: RealVolts::of(stage, &op_lo),
+            max_beta: RealVolts::of(stage, &op_hi),
+        };
         let slots = Slots(
             stage
                 .slots()
@@ -392,8 +452,8 @@ impl StageReport {
                 gain: d.gain,
             },
             corners: Corners {
-                min_beta: OpReport::from(&stage.solve(&values, b.min, ambient)),
-                max_beta: OpReport::from(&stage.solve(&values, b.max, ambient)),
+                min_beta: OpReport::from(&op_lo),
+                max_beta: OpReport::from(&op_hi),
             },
             slots,
             // A stage far from its target is not passing, whatever else holds (issue 17: a green "all
@@ -407,6 +467,7 @@ impl StageReport {
                 .collect(),
             ac: stage.ac(&values).map(AcReport::from),
             high_voltage: stage.high_voltage(),
+            nodes,
         }
     }
 

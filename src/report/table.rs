@@ -150,6 +150,44 @@ pub(super) fn heading(s: &StageReport) -> String {
     )
 }
 
+/// Where the voltages are read from, for a stage whose ground is not simply its emitter-side rail or whose
+/// mirror differs from the circuit (every PNP): the voltages shown are then from real ground.
+pub(super) fn ground_note(s: &StageReport) -> String {
+    if s.is_pnp() || s.nodes.ground == "collector" {
+        format!(
+            "  (node voltages from ground: collector rail {}, emitter rail {}; currents and VCE are magnitudes)\n",
+            volts(s.nodes.collector_rail),
+            volts(s.nodes.emitter_rail)
+        )
+    } else {
+        String::new()
+    }
+}
+
+/// The operating points with their node voltages from real ground, for showing.
+pub(super) fn shown_ops(s: &StageReport) -> [OpReport; 3] {
+    let real = |o: &OpReport, r: &super::RealVolts| OpReport {
+        vb: r.vb,
+        ve: r.ve,
+        vc: r.vc,
+        ..*o
+    };
+    [
+        real(&s.corners.min_beta, &s.nodes.min_beta),
+        real(&s.op, &s.nodes.typical),
+        real(&s.corners.max_beta, &s.nodes.max_beta),
+    ]
+}
+
+/// A deviation signed as the real voltage moves (a PNP's mirror moves the other way).
+pub(super) fn real_sign(s: &StageReport, d: f64) -> f64 {
+    if s.is_pnp() {
+        -d
+    } else {
+        d
+    }
+}
+
 pub(super) fn pnp_note(s: &StageReport) -> &'static str {
     if s.is_pnp() {
         "  (pnp: shown as its npn mirror; every real voltage and current has the opposite sign)\n"
@@ -163,8 +201,8 @@ fn targets_line(s: &StageReport) -> String {
     let mut parts = vec![
         format!("IC {}", amps(t.ic)),
         format!("VCE {}", volts(t.vce)),
-        format!("VE {}", volts(t.ve)),
-        format!("VB {}", volts(t.vb)),
+        format!("VE {}", volts(s.nodes.target_ve)),
+        format!("VB {}", volts(s.nodes.target_vb)),
         format!("IB {}", amps(t.ib)),
     ];
     if let Some(i) = t.divider_current {
@@ -259,7 +297,7 @@ pub fn render_check(r: &Report, colour: bool) -> String {
             out.push('\n');
         }
         out.push_str(&heading(s));
-        out.push_str(pnp_note(s));
+        out.push_str(&ground_note(s));
 
         let mut g = Grid::new(3);
         g.row(["slot", "network", "parts"]);
@@ -282,7 +320,8 @@ pub fn render_check(r: &Report, colour: bool) -> String {
 
         let mut g = Grid::new(1);
         g.row(["operating point", "min beta", "typ beta", "max beta"]);
-        op_rows(&mut g, [&s.corners.min_beta, &s.op, &s.corners.max_beta]);
+        let [lo, typ, hi] = shown_ops(s);
+        op_rows(&mut g, [&lo, &typ, &hi]);
         out.push('\n');
         out.push_str(&g.render("  "));
 
@@ -297,7 +336,12 @@ pub fn render_check(r: &Report, colour: bool) -> String {
             percent(d.vce),
         ]);
         if let Some(dv) = d.ve {
-            g.row(["VE".into(), volts(s.target.ve), volts(s.op.ve), percent(dv)]);
+            g.row([
+                "VE".into(),
+                volts(s.nodes.target_ve),
+                volts(s.nodes.typical.ve),
+                percent(real_sign(s, dv)),
+            ]);
         }
         if let (Some(rl), Some(dr)) = (s.target.rc, d.rc) {
             let rc = s
@@ -460,7 +504,7 @@ pub fn render_ideal(r: &Report, colour: bool) -> String {
             out.push('\n');
         }
         out.push_str(&heading(s));
-        out.push_str(pnp_note(s));
+        out.push_str(&ground_note(s));
         out.push_str(&targets_line(s));
         let mut g = Grid::new(1);
         g.row(["slot", "ideal", "E12", "E24", "E96"]);

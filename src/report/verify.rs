@@ -8,8 +8,10 @@
 //!
 //! extended with the stage, the readings, the prediction and its beta range, the beta's range, and per
 //! explanation the member, the other slot of a swap, the fitted beta, words for a technician and the faults
-//! that read the same. Voltages are in volts, in the NPN frame (a PNP stage's magnitudes), like every stage
-//! report. [`render`] is the text for people.
+//! that read the same. Those voltages are in volts, in the NPN frame (a PNP stage's magnitudes), like every
+//! stage report; `nodes` (and each explanation's `nodes`) adds the same voltages as a meter reads them from
+//! the circuit's real ground, signed, with `ground` saying where the stage sits. [`render`] is the text for
+//! people, in real voltages.
 
 use crate::bench::{Explanation, Fault, Nodes, Verdict, Verification, NODES};
 use crate::notation::{engineering, trim_number};
@@ -36,6 +38,37 @@ impl From<&Nodes> for NodeReport {
             vc: n.vc.0,
         }
     }
+}
+
+impl NodeReport {
+    /// The voltages as a meter reads them from the stage's real ground.
+    pub fn real(n: &Nodes, stage: &Stage) -> NodeReport {
+        NodeReport {
+            vb: stage.real(n.vb).0,
+            ve: stage.real(n.ve).0,
+            vc: stage.real(n.vc).0,
+        }
+    }
+}
+
+/// The bench's voltages as a meter reads them from the circuit's real ground, signed.
+#[derive(Clone, Copy, Debug, PartialEq, Serialize)]
+pub struct RealNodes {
+    /// The collector-side rail, volts from ground.
+    pub collector_rail: f64,
+    /// The emitter-side rail, volts from ground.
+    pub emitter_rail: f64,
+    /// The readings.
+    pub measured: MaybeNodes,
+    /// Each reading's deviation, signed as the real voltage moves (its size is `deviations`', relative to
+    /// the voltage from the emitter-side rail).
+    pub deviations: MaybeNodes,
+    /// The prediction at typical beta.
+    pub predicted: NodeReport,
+    /// The prediction at min beta.
+    pub predicted_min_beta: NodeReport,
+    /// The prediction at max beta.
+    pub predicted_max_beta: NodeReport,
 }
 
 /// Per-node values that may be missing (a node not measured).
@@ -107,6 +140,74 @@ pub struct ExplanationReport {
     pub advice: String,
     /// Faults a meter cannot tell from this one.
     pub alike: Vec<AlikeReport>,
+    /// The node voltages it predicts, from real ground.
+    pub nodes: NodeReport,
+}
+
+/// One tied explanation's prediction of the next measurement.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct NextPredictionReport {
+    /// The fault's kind.
+    pub fault: &'static str,
+    /// Its slot, if any.
+    pub slot: Option<&'static str>,
+    /// In words.
+    pub description: String,
+    /// What it predicts: volts (from real ground for a node, across for a slot or member), or ohms out of
+    /// circuit (null for an open).
+    pub value: Option<f64>,
+}
+
+/// The measurement that settles a tie between the best explanations.
+#[derive(Clone, Debug, PartialEq, Serialize)]
+pub struct NextMeasurementReport {
+    /// node, across, across-member or out-of-circuit.
+    pub kind: &'static str,
+    /// The node (VB, VE or VC) for a node reading.
+    pub node: Option<&'static str>,
+    /// The slot measured across or lifted.
+    pub slot: Option<&'static str>,
+    /// The member, from 1, for a member of a network.
+    pub member: Option<usize>,
+    /// "V" or "Ω".
+    pub unit: &'static str,
+    /// What to measure, in words.
+    pub description: String,
+    /// Each tied explanation's prediction.
+    pub predictions: Vec<NextPredictionReport>,
+}
+
+fn next_report(
+    n: &crate::bench::next::NextMeasurement,
+    nets: &SlotNetworks,
+) -> NextMeasurementReport {
+    use crate::bench::next::Measurement;
+    let (node, slot, member) = match n.what {
+        Measurement::Node(name) => (Some(name), None, None),
+        Measurement::Across(s) | Measurement::PowerOffAcross(s) => (None, Some(s.name()), None),
+        Measurement::AcrossMember(p) | Measurement::OutOfCircuit(p) => {
+            let many = nets.get(p.slot).is_some_and(|n| n.part_count() > 1);
+            (None, Some(p.slot.name()), many.then_some(p.member + 1))
+        }
+    };
+    NextMeasurementReport {
+        kind: n.what.kind(),
+        node,
+        slot,
+        member,
+        unit: if n.what.in_ohms() { "Ω" } else { "V" },
+        description: n.what.describe(nets),
+        predictions: n
+            .predictions
+            .iter()
+            .map(|(f, v)| NextPredictionReport {
+                fault: f.kind(),
+                slot: f.slot().map(|s| s.name()),
+                description: f.describe(nets),
+                value: v.is_finite().then_some(*v),
+            })
+            .collect(),
+    }
 }
 
 /// Everything `biasfit verify` found.
@@ -137,6 +238,14 @@ pub struct VerifyReport {
     pub as_built_score: f64,
     /// Whether this is a PNP stage (voltages are then its NPN mirror's).
     pub pnp: bool,
+    /// Which side of the stage is the circuit's ground: emitter, collector or between (dual supply).
+    pub ground: &'static str,
+    /// Whether the readings were taken as the NPN mirror's magnitudes (they matched the design better so).
+    pub magnitudes: bool,
+    /// The voltages as a meter reads them from real ground.
+    pub nodes: RealNodes,
+    /// When the best explanations are tied, the one further measurement that separates them best.
+    pub next_measurement: Option<NextMeasurementReport>,
 }
 
 fn alike(f: &Fault, nets: &SlotNetworks) -> AlikeReport {
@@ -147,7 +256,7 @@ fn alike(f: &Fault, nets: &SlotNetworks) -> AlikeReport {
     }
 }
 
-fn explanation(e: &Explanation, nets: &SlotNetworks) -> ExplanationReport {
+fn explanation(e: &Explanation, stage: &Stage, nets: &SlotNetworks) -> ExplanationReport {
     let member = e.fault.place().and_then(|p| {
         crate::bench::faults::member(nets, p).map(|m| MemberReport {
             index: p.member + 1,
@@ -170,6 +279,7 @@ fn explanation(e: &Explanation, nets: &SlotNetworks) -> ExplanationReport {
         description: e.fault.describe(nets),
         advice: e.fault.advice(nets),
         alike: e.alike.iter().map(|f| alike(f, nets)).collect(),
+        nodes: NodeReport::real(&e.predicted, stage),
     }
 }
 
@@ -185,7 +295,7 @@ impl VerifyReport {
             explanations: v
                 .explanations
                 .iter()
-                .map(|e| explanation(e, nets))
+                .map(|e| explanation(e, stage, nets))
                 .collect(),
             measured: MaybeNodes::from(v.measured.as_array()),
             predicted: NodeReport::from(&v.predicted),
@@ -193,6 +303,27 @@ impl VerifyReport {
             predicted_max_beta: NodeReport::from(&v.predicted_max_beta),
             as_built_score: v.as_built_score,
             pnp: stage.polarity == crate::stage::Polarity::Pnp,
+            ground: stage.ground.name(),
+            magnitudes: v.magnitudes,
+            nodes: RealNodes {
+                collector_rail: stage.collector_rail().0,
+                emitter_rail: stage.emitter_rail().0,
+                measured: MaybeNodes::from(
+                    v.measured
+                        .as_array()
+                        .map(|m| m.map(|m| stage.real(crate::units::Volts(m)).0)),
+                ),
+                deviations: MaybeNodes::from(v.deviations.map(|d| {
+                    d.map(|d| match stage.polarity {
+                        crate::stage::Polarity::Npn => d,
+                        crate::stage::Polarity::Pnp => -d,
+                    })
+                })),
+                predicted: NodeReport::real(&v.predicted, stage),
+                predicted_min_beta: NodeReport::real(&v.predicted_min_beta, stage),
+                predicted_max_beta: NodeReport::real(&v.predicted_max_beta, stage),
+            },
+            next_measurement: v.next.as_ref().map(|n| next_report(n, nets)),
         }
     }
 
@@ -267,23 +398,34 @@ fn columns(rows: &[Vec<String>], left: usize, indent: &str) -> String {
 pub fn render(r: &VerifyReport, heading: &str) -> String {
     let mut out = String::new();
     let _ = writeln!(out, "verify {heading}");
-    if r.pnp {
-        out.push_str("  (pnp: shown as its npn mirror, so voltages are magnitudes)\n");
+    if r.pnp || r.ground != "emitter" {
+        let _ = writeln!(
+            out,
+            "  (voltages from ground: collector rail {}, emitter rail {})",
+            volts(r.nodes.collector_rail),
+            volts(r.nodes.emitter_rail)
+        );
+    }
+    if r.magnitudes {
+        out.push_str(
+            "  (readings taken as magnitudes from the emitter-side rail, which fit the design better; shown here from ground)\n",
+        );
     }
     out.push('\n');
-    let pred = [r.predicted.vb, r.predicted.ve, r.predicted.vc];
+    let n = &r.nodes;
+    let pred = [n.predicted.vb, n.predicted.ve, n.predicted.vc];
     let lo = [
-        r.predicted_min_beta.vb,
-        r.predicted_min_beta.ve,
-        r.predicted_min_beta.vc,
+        n.predicted_min_beta.vb,
+        n.predicted_min_beta.ve,
+        n.predicted_min_beta.vc,
     ];
     let hi = [
-        r.predicted_max_beta.vb,
-        r.predicted_max_beta.ve,
-        r.predicted_max_beta.vc,
+        n.predicted_max_beta.vb,
+        n.predicted_max_beta.ve,
+        n.predicted_max_beta.vc,
     ];
-    let meas = [r.measured.vb, r.measured.ve, r.measured.vc];
-    let dev = [r.deviations.vb, r.deviations.ve, r.deviations.vc];
+    let meas = [n.measured.vb, n.measured.ve, n.measured.vc];
+    let dev = [n.deviations.vb, n.deviations.ve, n.deviations.vc];
     let mut rows = vec![vec![
         "node".to_string(),
         "expected".into(),
@@ -376,11 +518,14 @@ pub fn render(r: &VerifyReport, heading: &str) -> String {
         let _ = writeln!(
             out,
             "             would read VB {}, VE {}, VC {}{}",
-            volts(e.predicted.vb),
-            volts(e.predicted.ve),
-            volts(e.predicted.vc),
+            volts(e.nodes.vb),
+            volts(e.nodes.ve),
+            volts(e.nodes.vc),
             if e.fault == "reversed-transistor" {
-                format!(" (reverse beta {})", trim_number(e.beta, 2))
+                format!(
+                    " (beta {}: reversed, or that little gain)",
+                    trim_number(e.beta, 2)
+                )
             } else {
                 String::new()
             }
@@ -389,6 +534,26 @@ pub fn render(r: &VerifyReport, heading: &str) -> String {
         if !e.alike.is_empty() {
             let names: Vec<&str> = e.alike.iter().map(|a| a.description.as_str()).collect();
             let _ = writeln!(out, "             reads the same as: {}", names.join("; "));
+        }
+    }
+    if let Some(n) = &r.next_measurement {
+        let _ = writeln!(out, "\n  to tell them apart, measure {}:", n.description);
+        let rows: Vec<(String, String)> = n
+            .predictions
+            .iter()
+            .map(|p| {
+                let shown = match (p.value, n.unit) {
+                    (None, _) => "open".to_string(),
+                    (Some(v), "Ω") => crate::bench::next::ohms_text(v),
+                    (Some(v), _) => volts(v),
+                };
+                (shown, p.description.clone())
+            })
+            .collect();
+        let w = rows.iter().map(|r| r.0.chars().count()).max().unwrap_or(0);
+        for (shown, words) in rows {
+            let pad = " ".repeat(w - shown.chars().count());
+            let _ = writeln!(out, "    {pad}{shown}  if {words}");
         }
     }
     out

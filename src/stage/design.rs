@@ -5,7 +5,7 @@
 //! optional field would otherwise be ignored and its default used without a word. Values may be plain
 //! numbers in SI units (`supply = 12`) or strings with units (`load = "4k7"`, `ic = "2mA"`).
 
-use super::{Beta, Limits, Polarity, Rule, Stage, Topology, Transistor, Vbe};
+use super::{Beta, Ground, Limits, Polarity, Rule, Stage, Topology, Transistor, Vbe};
 use crate::notation::value::{MAX_OHMS, MIN_OHMS};
 use crate::notation::{engineering, parse_amps, parse_ohms, parse_volts, parse_watts, trim_number};
 use crate::units::{Amps, Celsius, Ohms, Volts, Watts};
@@ -244,6 +244,7 @@ const STAGE_KEYS: &[&str] = &[
     "polarity",
     "supply",
     "supply_neg",
+    "ground",
     "load",
     "ic",
     "transistor",
@@ -704,12 +705,63 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
             ),
         ));
     }
-    if polarity == Polarity::Npn && supply.0 < 0.0 {
-        return Err(supply_v.refuse(
-            cx,
-            "an npn stage's collector rail is positive; for a negative rail use polarity = \"pnp\"",
-        ));
-    }
+    // Where the stage sits. The supply's sign says it for every stage but an NPN below ground, which must
+    // say so (a negative supply on an NPN is far more often a slip than that); a `ground` that the sign
+    // contradicts is refused rather than guessed at.
+    let ground_v = t.get(cx, "ground");
+    let ground_given = match &ground_v {
+        None => None,
+        Some(v) => match v.string().map(|s| s.trim().to_ascii_lowercase()).as_deref() {
+            Some("emitter") => Some(Ground::Emitter),
+            Some("collector") => Some(Ground::Collector),
+            _ => {
+                return Err(v.refuse(
+                    cx,
+                    "expected \"emitter\" (the emitter-side rail is 0 V) or \"collector\" (the collector side is 0 V)",
+                ))
+            }
+        },
+    };
+    let ground = if topology == Topology::DualSupply {
+        if let Some(v) = &ground_v {
+            return Err(v.refuse(
+                cx,
+                "expected no ground here: a dual-supply stage has ground between its rails",
+            ));
+        }
+        Ground::Between
+    } else {
+        let by_sign = match (polarity, supply.0 > 0.0) {
+            (Polarity::Npn, true) | (Polarity::Pnp, false) => Ground::Emitter,
+            (Polarity::Npn, false) | (Polarity::Pnp, true) => Ground::Collector,
+        };
+        match (ground_given, &ground_v) {
+            (Some(g), Some(v)) if g != by_sign => {
+                let want = if supply.0 > 0.0 {
+                    "negative"
+                } else {
+                    "positive"
+                };
+                return Err(v.refuse(
+                    cx,
+                    format!(
+                        "{} {polarity} stage with its {} side at 0 V hangs from a {want} rail: expected supply = {}, or no ground",
+                        if polarity == Polarity::Npn { "an" } else { "a" },
+                        g.name(),
+                        -supply.0
+                    ),
+                ));
+            }
+            _ => {}
+        }
+        if polarity == Polarity::Npn && supply.0 < 0.0 && ground_given.is_none() {
+            return Err(supply_v.refuse(
+                cx,
+                "an npn stage's collector rail is positive; for a negative rail use polarity = \"pnp\", or ground = \"collector\" for an npn below ground",
+            ));
+        }
+        by_sign
+    };
     let supply_neg = match t.get(cx, "supply_neg") {
         None if topology == Topology::DualSupply => {
             return Err(DesignError::Missing {
@@ -847,6 +899,7 @@ fn read_stage(cx: &Cx, mut t: Tab, number: usize) -> Result<Stage, DesignError> 
         polarity,
         supply: supply.abs(),
         supply_neg,
+        ground,
         load,
         ic,
         transistor,

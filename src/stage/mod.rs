@@ -227,6 +227,30 @@ impl fmt::Display for Polarity {
     }
 }
 
+/// Which side of a stage is the circuit's ground (0 V): what a meter's black lead is on.
+#[derive(Clone, Copy, Debug, PartialEq, Eq, Hash)]
+pub enum Ground {
+    /// The emitter-side rail is ground and the supply feeds the collector side (an NPN on a positive rail,
+    /// a PNP on a negative one).
+    Emitter,
+    /// The collector-side rail is ground and the supply feeds the emitter side (a PNP hanging from a
+    /// positive rail with its collector load toward ground, an NPN below ground on a negative rail).
+    Collector,
+    /// Ground lies between two rails (dual supply): the base returns to it.
+    Between,
+}
+
+impl Ground {
+    /// "emitter", "collector" or "between", as design files and the JSON name it.
+    pub fn name(self) -> &'static str {
+        match self {
+            Ground::Emitter => "emitter",
+            Ground::Collector => "collector",
+            Ground::Between => "between",
+        }
+    }
+}
+
 /// The current gain's spread over parts.
 #[derive(Clone, Copy, Debug, PartialEq)]
 pub struct Beta {
@@ -356,6 +380,8 @@ pub struct Stage {
     pub supply: Volts,
     /// The emitter-side rail's magnitude (dual-supply only).
     pub supply_neg: Option<Volts>,
+    /// Where the stage sits: which side is the circuit's ground.
+    pub ground: Ground,
     /// The load RL; the stage is matched when RC = RL.
     pub load: Option<Ohms>,
     /// The collector current asked for, when no load is given.
@@ -574,6 +600,44 @@ impl Stage {
     /// The emitter-side rail's magnitude (0 unless dual-supply).
     pub(crate) fn vee(&self) -> f64 {
         self.supply_neg.map_or(0.0, |v| v.0)
+    }
+
+    /// The sign a voltage of the NPN mirror takes in the real circuit: +1 for NPN, −1 for PNP.
+    fn sign(&self) -> f64 {
+        match self.polarity {
+            Polarity::Npn => 1.0,
+            Polarity::Pnp => -1.0,
+        }
+    }
+
+    /// What a meter reads from the circuit's real ground at a node whose voltage in the NPN mirror (from
+    /// the emitter-side rail, or from ground on a dual supply) is `v`. The mirror is the solver's trick; this
+    /// is the circuit as built.
+    pub fn real(&self, v: Volts) -> Volts {
+        let offset = match self.ground {
+            Ground::Emitter | Ground::Between => 0.0,
+            Ground::Collector => -self.sign() * self.vcc(),
+        };
+        Volts(offset + self.sign() * v.0)
+    }
+
+    /// The inverse of [`Stage::real`]: a reading from real ground in the NPN mirror's frame.
+    pub fn mirror(&self, real: Volts) -> Volts {
+        let offset = match self.ground {
+            Ground::Emitter | Ground::Between => 0.0,
+            Ground::Collector => -self.sign() * self.vcc(),
+        };
+        Volts((real.0 - offset) * self.sign())
+    }
+
+    /// The real, signed voltage of the collector-side rail from ground.
+    pub fn collector_rail(&self) -> Volts {
+        self.real(Volts(self.vcc()))
+    }
+
+    /// The real, signed voltage of the emitter-side rail from ground.
+    pub fn emitter_rail(&self) -> Volts {
+        self.real(Volts(-self.vee()))
     }
 
     /// The largest potential difference in the stage: the supply, or both rails for a dual supply.

@@ -5,13 +5,15 @@
 //! code, tolerance and drawer, so the drawing is the build instruction.
 //!
 //! Every topology uses the same frame: the collector-side rail along the top, the emitter-side rail along the
-//! bottom, the base side on the left and the collector and emitter side on the right. A PNP stage is drawn as
-//! its NPN mirror (the rails carry the real, negative, signs), which is how the stage model solves it.
+//! bottom, the base side on the left and the collector and emitter side on the right. A PNP stage is drawn in
+//! the same frame, its arrow pointing in; the rails carry the voltages the design file gives them from real
+//! ground, with their signs, and the ground symbol sits on whichever rail is 0 V (the collector-side rail
+//! along the top for a PNP hanging from a positive rail).
 
 use super::{text_width, Anchor, Canvas};
 use crate::network::{Member, Network};
 use crate::notation::{code, engineering};
-use crate::stage::{Polarity, Slot, SlotNetworks, Stage, Topology};
+use crate::stage::{Ground, Polarity, Slot, SlotNetworks, Stage, Topology};
 use crate::units::Volts;
 
 /// What the schematic shows: the stage's shape, rails and the network built in each slot.
@@ -29,6 +31,12 @@ pub struct Schematic {
     pub supply_neg: Option<Volts>,
     /// The slots the stage has, in report order.
     pub slots: Vec<Slot>,
+    /// Which side of the stage is ground.
+    pub ground: Ground,
+    /// The collector-side (top) rail, from real ground, signed.
+    pub collector_rail: Volts,
+    /// The emitter-side (bottom) rail, from real ground, signed.
+    pub emitter_rail: Volts,
     /// The network built in each slot (a slot without one is drawn as a dashed, empty place).
     pub networks: SlotNetworks,
 }
@@ -43,6 +51,9 @@ impl Schematic {
             supply: stage.supply,
             supply_neg: stage.supply_neg,
             slots: stage.slots(),
+            ground: stage.ground,
+            collector_rail: stage.collector_rail(),
+            emitter_rail: stage.emitter_rail(),
             networks: networks.clone(),
         }
     }
@@ -279,13 +290,11 @@ fn transistor(c: &mut Canvas, bx: f64, by: f64, polarity: Polarity) -> (f64, f64
     (by - 22.0, by + 22.0)
 }
 
-fn rail_label(v: f64, polarity: Polarity) -> String {
-    let signed = match polarity {
-        Polarity::Npn => v,
-        Polarity::Pnp => -v,
-    };
+fn rail_label(signed: f64) -> String {
     if signed > 0.0 {
         format!("+{}", engineering(signed, "V"))
+    } else if signed == 0.0 {
+        "0 V".to_string()
     } else {
         engineering(signed, "V")
     }
@@ -399,21 +408,21 @@ pub fn render(s: &Schematic) -> String {
         y_top - 6.0,
         Anchor::Start,
         "rail",
-        &rail_label(s.supply.0, s.polarity),
+        &rail_label(s.collector_rail.0),
     );
     c.line(16.0, y_bot, width - 16.0, y_bot, "wire");
-    if dual {
-        let neg = s.supply_neg.map_or(0.0, |v| v.0);
-        c.text(
-            20.0,
-            y_bot + 16.0,
-            Anchor::Start,
-            "rail",
-            &rail_label(-neg, s.polarity),
-        );
-    } else {
-        c.text(20.0, y_bot + 16.0, Anchor::Start, "rail", "0 V");
-        ground(&mut c, width / 2.0, y_bot);
+    c.text(
+        20.0,
+        y_bot + 16.0,
+        Anchor::Start,
+        "rail",
+        &rail_label(s.emitter_rail.0),
+    );
+    match s.ground {
+        Ground::Emitter => ground(&mut c, width / 2.0, y_bot),
+        // Off the top rail's far end, clear of the collector slot and the output.
+        Ground::Collector => ground(&mut c, width - 30.0, y_top),
+        Ground::Between => {}
     }
 
     // The transistor, and its leads to the collector and emitter nodes.
@@ -602,9 +611,63 @@ mod tests {
                 }
                 // The title survives escaping.
                 assert!(t[0].starts_with("drawn <A&B>"), "{}", t[0]);
-                let rail = if polarity == "npn" { "+9 V" } else { "-9 V" };
-                assert!(t.iter().any(|s| s == rail), "{topology} {polarity}: {t:?}");
+                // The design file's supply = 9 is a rail at +9 V from ground, whichever the polarity.
+                assert!(
+                    t.iter().any(|s| s == "+9 V"),
+                    "{topology} {polarity}: {t:?}"
+                );
             }
+        }
+    }
+
+    #[test]
+    fn the_rails_carry_the_design_files_supply_with_its_sign() {
+        // (polarity, supply line, the top (collector-side) rail, the bottom (emitter-side) rail).
+        let cases = [
+            ("npn", "supply = 9", "+9 V", "0 V"),
+            ("npn", "supply = -9\nground = \"collector\"", "0 V", "-9 V"),
+            ("pnp", "supply = 9", "0 V", "+9 V"),
+            ("pnp", "supply = -9", "-9 V", "0 V"),
+            ("npn", "supply = 12\nsupply_neg = -5", "+12 V", "-5 V"),
+            ("pnp", "supply = -12\nsupply_neg = 5", "-12 V", "+5 V"),
+        ];
+        for (polarity, supply, top, bottom) in cases {
+            let topology = if supply.contains("supply_neg") {
+                "dual-supply"
+            } else {
+                "divider"
+            };
+            let text = format!(
+                "[[stage]]\nname = \"r\"\ntopology = \"{topology}\"\npolarity = \"{polarity}\"\n{supply}\n\
+                 load = \"2k7\"\n[stage.transistor]\nbeta = [120, 200, 400]\nvbe = 0.6\n"
+            );
+            let st = parse("draw.toml", &text)
+                .unwrap_or_else(|e| panic!("{e}"))
+                .stages
+                .remove(0);
+            let svg = render(&Schematic::of(&st, &networks(&st)));
+            let doc = roxmltree::Document::parse(&svg).unwrap();
+            let rails: Vec<(f64, String)> = doc
+                .descendants()
+                .filter(|n| n.has_tag_name("text") && n.attribute("class") == Some("rail"))
+                .map(|n| {
+                    (
+                        n.attribute("y").unwrap().parse().unwrap(),
+                        n.text().unwrap_or("").to_string(),
+                    )
+                })
+                .collect();
+            assert_eq!(rails.len(), 2, "{rails:?}");
+            let (upper, lower) = if rails[0].0 < rails[1].0 {
+                (&rails[0].1, &rails[1].1)
+            } else {
+                (&rails[1].1, &rails[0].1)
+            };
+            assert_eq!(
+                (upper.as_str(), lower.as_str()),
+                (top, bottom),
+                "{polarity} {supply}"
+            );
         }
     }
 
