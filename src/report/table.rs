@@ -7,6 +7,7 @@ use crate::notation::{code, engineering, trim_number};
 use crate::stage::CheckUnit;
 use crate::units::Ohms;
 use std::fmt::Write;
+use itertools::Itertools;
 
 /// Columns of text, padded to line up; the first column is left-aligned, the rest right-aligned.
 pub(super) struct Grid {
@@ -130,7 +131,6 @@ fn parts_text(parts: &[super::PartReport]) -> String {
             }
             t
         })
-        .collect::<Vec<_>>()
         .join(", ")
 }
 

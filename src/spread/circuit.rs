@@ -19,6 +19,7 @@ use crate::circuit::{Build, Circuit, Element, Kind, Options as SolveOptions, Pic
 use crate::network::Network;
 use crate::units::{Celsius, Tolerance};
 use serde::Serialize;
+use itertools::Itertools;
 
 /// One target over the builds.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -558,7 +559,6 @@ fn describe_requirement(c: &Circuit, r: &crate::circuit::Requirement) -> String 
             allowed
                 .iter()
                 .map(|x| x.name())
-                .collect::<Vec<_>>()
                 .join(" or ")
         ),
         Requirement::MinCurrent { part, amps } => format!(

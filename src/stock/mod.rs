@@ -19,6 +19,7 @@ use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::path::Path;
 use table::{Column, Schema, Table};
+use itertools::Itertools;
 
 pub use summary::Summary;
 pub use table::{CsvError, Layout};
@@ -176,7 +177,6 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         names
             .iter()
             .map(|n| format!("'{}'", crate::notation::excerpt(n)))
-            .collect::<Vec<_>>()
             .join(", ")
     };
     if !table.ignored.is_empty() {
@@ -188,7 +188,6 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
                 .columns
                 .iter()
                 .map(|c| c.name)
-                .collect::<Vec<_>>()
                 .join(", ")
         ));
     }

@@ -6,6 +6,7 @@ use crate::notation::{code, Series};
 use crate::units::Ohms;
 use serde::Serialize;
 use std::collections::BTreeMap;
+use itertools::Itertools;
 
 /// How many values and pieces one decade holds.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -169,7 +170,6 @@ impl Summary {
                     format!("{ours} ← \"{theirs}\"")
                 }
             })
-            .collect::<Vec<_>>()
             .join(", ");
         let _ = writeln!(out, "  columns read ({}-separated): {read}", self.delimiter);
         let _ = writeln!(out, "\n  decade         values  pieces");
@@ -183,7 +183,6 @@ impl Summary {
                 .iter()
                 .take(SHOWN)
                 .map(|x| code(Ohms(*x)))
-                .collect::<Vec<_>>()
                 .join(" ");
             if v.len() > SHOWN {
                 let _ = write!(s, " … (+{} more)", v.len() - SHOWN);
@@ -218,7 +217,6 @@ impl Summary {
                     m.pieces
                 )
             })
-            .collect::<Vec<_>>()
             .join(", ");
         let pow = self
             .powers
@@ -230,7 +228,6 @@ impl Summary {
                     m.pieces
                 )
             })
-            .collect::<Vec<_>>()
             .join(", ");
         let _ = writeln!(out, "\n  tolerance: {tol}");
         let _ = writeln!(out, "  power:     {pow}");
