@@ -13,6 +13,7 @@ pub mod histogram;
 pub mod html;
 pub mod result;
 pub mod spread;
+pub mod stock;
 pub mod svg;
 pub mod table;
 pub mod verify;
