@@ -3,7 +3,7 @@
 //! binary asks when stdout is a terminal).
 
 use super::{CheckReport, OpReport, Report, StageReport};
-use crate::notation::{code, engineering, trim_number};
+use crate::notation::{amps, code, engineering, signed_percent, trim_number, volts};
 use crate::stage::CheckUnit;
 use crate::units::Ohms;
 use std::fmt::Write;
@@ -84,26 +84,6 @@ pub(super) fn verdict(ok: bool, colour: bool) -> String {
         (true, true) => "\u{1b}[32mok\u{1b}[0m".into(),
         (false, true) => "\u{1b}[1;31mFAIL\u{1b}[0m".into(),
     }
-}
-
-pub(super) fn percent(x: f64) -> String {
-    if !x.is_finite() {
-        return "∞".into();
-    }
-    let p = x * 100.0;
-    if p.abs() < 0.0005 {
-        "0 %".into()
-    } else {
-        format!("{:+.2} %", p)
-    }
-}
-
-pub(super) fn amps(x: f64) -> String {
-    engineering(x, "A")
-}
-
-pub(super) fn volts(x: f64) -> String {
-    engineering(x, "V")
 }
 
 pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
@@ -289,15 +269,15 @@ pub fn render_check(r: &Report, colour: bool) -> String {
         let mut g = Grid::new(1);
         g.row(["at typ beta", "target", "actual", "deviation"]);
         let d = &s.deviations;
-        g.row(["IC".into(), amps(s.target.ic), amps(s.op.ic), percent(d.ic)]);
+        g.row(["IC".into(), amps(s.target.ic), amps(s.op.ic), signed_percent(d.ic)]);
         g.row([
             "VCE".into(),
             volts(s.target.vce),
             volts(s.op.vce),
-            percent(d.vce),
+            signed_percent(d.vce),
         ]);
         if let Some(dv) = d.ve {
-            g.row(["VE".into(), volts(s.target.ve), volts(s.op.ve), percent(dv)]);
+            g.row(["VE".into(), volts(s.target.ve), volts(s.op.ve), signed_percent(dv)]);
         }
         if let (Some(rl), Some(dr)) = (s.target.rc, d.rc) {
             let rc = s
@@ -310,7 +290,7 @@ pub fn render_check(r: &Report, colour: bool) -> String {
                 "RC vs RL".into(),
                 code(Ohms(rl)),
                 code(Ohms(rc)),
-                percent(dr),
+                signed_percent(dr),
             ]);
         }
         if let (Some(gt), Some(dg), Some(ac)) = (s.target.gain, d.gain, &s.ac) {
@@ -322,7 +302,7 @@ pub fn render_check(r: &Report, colour: bool) -> String {
                 } else {
                     "none".to_string()
                 },
-                percent(dg),
+                signed_percent(dg),
             ]);
         }
         g.row([
@@ -424,7 +404,7 @@ fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
                 t.what.clone(),
                 show(t.target),
                 show(t.actual),
-                percent(t.deviation),
+                signed_percent(t.deviation),
             ]);
         }
         g.row([
