@@ -2,8 +2,13 @@
 //! same way. Exit code 2 (or the one the case names), nothing on stdout, and on stderr exactly one line,
 //! starting `error: `, that names the file and line where there is one and says what to do. No panic, no
 //! backtrace (the runs set RUST_BACKTRACE=1, so a panic could not hide). The line must match the case's
-//! `.err` snapshot; `UPDATE_SNAPSHOTS=1 cargo test --release --test bad_input` rewrites them after a
-//! deliberate change of wording.
+//! insta snapshot, `NAME.snap` beside it; `INSTA_UPDATE=always cargo test --release --test bad_input`
+//! rewrites them after a deliberate change of wording (or review the `.snap.new` files a failing run leaves,
+//! with `cargo insta review` where cargo-insta is installed).
+//!
+//! insta rather than trycmd: trycmd runs case files of its own format, and here the case is the broken
+//! input itself (`toml/NAME.toml` is a design file, which trycmd would take for a case of its own); the
+//! checks beyond the text (one line, the file and line named, what to do said) need code in any case.
 //!
 //! - `csv/NAME.csv` runs as `biasfit stock FILE`;
 //! - `toml/NAME.toml` runs as `biasfit ideal FILE`;
@@ -126,19 +131,26 @@ fn refused(
             }
         }
     }
-    let path = root().join(snap);
-    if std::env::var_os("UPDATE_SNAPSHOTS").is_some() {
-        std::fs::write(&path, &err).expect("snapshot written");
-        return Ok(());
+    matches_snapshot(case, msg, snap)
+}
+
+/// Compares the refusal with its insta snapshot `snap` (`NAME.snap` beside the case). A mismatch is
+/// returned rather than raised, so that one run lists (and, outside CI, writes a `.snap.new` for) every
+/// case that changed.
+fn matches_snapshot(case: &str, msg: &str, snap: &Path) -> Result<(), String> {
+    let folder = root().join(snap.parent().expect("a snapshot in a folder"));
+    let name = snap.file_stem().unwrap().to_string_lossy().into_owned();
+    let mut settings = insta::Settings::clone_current();
+    settings.set_snapshot_path(folder);
+    settings.set_prepend_module_to_snapshot(false);
+    settings.set_omit_expression(true);
+    if root().join(case).exists() {
+        settings.set_input_file(root().join(case));
     }
-    match std::fs::read_to_string(&path) {
-        Ok(expected) if expected == err => Ok(()),
-        Ok(expected) => fail(&format!("differs from {} ({expected:?})", snap.display())),
-        Err(_) => fail(&format!(
-            "no snapshot {}; run with UPDATE_SNAPSHOTS=1 to create it",
-            snap.display()
-        )),
-    }
+    let compared = std::panic::catch_unwind(std::panic::AssertUnwindSafe(|| {
+        settings.bind(|| insta::assert_snapshot!(name.as_str(), msg));
+    }));
+    compared.map_err(|_| format!("{case}: differs from {} ({msg})", snap.display()))
 }
 
 /// Fails with every problem found, one a line.
@@ -162,7 +174,7 @@ fn file_cases(folder: &str, ext: &str, command: &str, at_least: usize) {
         let name = rel(&path);
         let out = run(&[command.to_string(), name.clone()], &root());
         let whole = WHOLE_FILE.iter().any(|w| name.ends_with(w));
-        let snap = path.with_extension("err");
+        let snap = path.with_extension("snap");
         problems.extend(
             refused(
                 &name,
@@ -210,7 +222,7 @@ fn broken_command_lines_are_refused() {
         }
         assert!(!expect.is_empty(), "{name}: say what the message must hold");
         let out = run(&args, &root());
-        let snap = path.with_extension("err");
+        let snap = path.with_extension("snap");
         problems.extend(
             refused(
                 &name,
@@ -234,7 +246,7 @@ fn broken_command_lines_are_refused() {
 fn every_snapshot_has_its_case() {
     // A snapshot whose input was renamed or deleted would otherwise linger and mislead.
     for (folder, ext) in [("csv", "csv"), ("toml", "toml"), ("cli", "args")] {
-        for err in cases(folder, "err") {
+        for err in cases(folder, "snap") {
             assert!(
                 err.with_extension(ext).exists(),
                 "{} has no .{ext} case",
@@ -295,7 +307,7 @@ fn a_100000_row_stock_loads_and_its_last_bad_row_is_named() {
         2,
         Some("rows-100000-bad-last.csv"),
         true,
-        Path::new("tests/fixtures/bad/generated/rows-100000-bad-last.err"),
+        Path::new("tests/fixtures/bad/generated/rows-100000-bad-last.snap"),
     )
     .unwrap();
     assert!(String::from_utf8_lossy(&out.stderr).contains(":100002: column qty"));

@@ -86,13 +86,13 @@ fn svg_files_parse_as_xml_and_show_the_chosen_values() {
         assert!(t.contains(q), "load line lacks {q}: {t}");
     }
     // The renderers are pure: the same build draws the same files.
-    snapshot(
-        "tests/snapshots/line-driver-schematic.svg".as_ref(),
-        &std::fs::read_to_string(&schematic).unwrap(),
+    insta::assert_binary_snapshot!(
+        "line-driver-schematic.svg",
+        std::fs::read(&schematic).unwrap()
     );
-    snapshot(
-        "tests/snapshots/line-driver-load-line.svg".as_ref(),
-        &std::fs::read_to_string(&load_line).unwrap(),
+    insta::assert_binary_snapshot!(
+        "line-driver-load-line.svg",
+        std::fs::read(&load_line).unwrap()
     );
     // No temporary files are left behind.
     let left: Vec<_> = std::fs::read_dir(dir.join("drawings"))

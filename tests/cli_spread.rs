@@ -27,10 +27,7 @@ fn temp(name: &str) -> PathBuf {
 fn line_driver_report_snapshot() {
     let out = biasfit(&with(&["--runs", "4000"]));
     assert!(out.status.success(), "{}", stderr(&out));
-    snapshot(
-        "tests/snapshots/spread-line-driver.txt".as_ref(),
-        &stdout(&out),
-    );
+    insta::assert_snapshot!("spread-line-driver", stdout(&out));
 }
 
 #[test]

@@ -32,10 +32,7 @@ fn demo_stocks_load_and_summarise() {
 fn hobby_drawer_summary_snapshot() {
     let out = biasfit(&["stock", "stock/hobby-drawer.csv"]);
     assert!(out.status.success());
-    snapshot(
-        "tests/snapshots/stock-hobby-drawer.txt".as_ref(),
-        &stdout(&out),
-    );
+    insta::assert_snapshot!("stock-hobby-drawer", stdout(&out));
     assert!(
         user_docs().contains(&stdout(&out)),
         "docs/commands.md shows this summary as the binary prints it"

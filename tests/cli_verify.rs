@@ -48,7 +48,7 @@ fn a_sound_build_is_good() {
     let text = stdout(&out);
     assert!(text.contains("verdict: good"), "{text}");
     assert!(!text.contains("likely faults"), "{text}");
-    snapshot("tests/snapshots/verify-good.txt".as_ref(), &text);
+    insta::assert_snapshot!("verify-good", text);
 }
 
 #[test]
@@ -155,7 +155,7 @@ fn the_json_contract() {
         text.contains("RC (2k7) fitted as 27k: a misread multiplier band"),
         "{text}"
     );
-    snapshot("tests/snapshots/verify-fault.txt".as_ref(), &text);
+    insta::assert_snapshot!("verify-fault", text);
 }
 
 #[test]

@@ -302,7 +302,7 @@ pub fn run(args: DesignArgs, out: &mut Out) -> Result<(), Failure> {
     if args.json {
         out.json(&report)?;
     } else {
-        out.text(&render(&report, out.colour()))?;
+        out.text(&render(&report, out.colour(), super::MORE_TIME))?;
     }
     if report.all_ok() {
         Ok(())

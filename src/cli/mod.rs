@@ -21,6 +21,9 @@ use std::process::ExitCode;
 
 pub use output::Out;
 
+/// How to give `design` and `order` more time, for the reports of a search the time limit stopped.
+const MORE_TIME: &str = "allow more --time-limit";
+
 /// Bias a bipolar transistor stage from the resistors you actually have.
 #[derive(Debug, Parser)]
 #[command(name = "biasfit", version, about, long_about = None, propagate_version = true)]

@@ -264,7 +264,7 @@ pub fn run(args: OrderArgs, out: &mut Out) -> Result<(), Failure> {
         })?;
     } else {
         out.text(&render_order(&outcome.lines, outcome.cost, goal))?;
-        out.text(&render(&report, out.colour()))?;
+        out.text(&render(&report, out.colour(), super::MORE_TIME))?;
     }
     Ok(())
 }

@@ -8,7 +8,7 @@ use super::ideal::{stages, PartArgs};
 use super::output::Kind;
 use super::{input, Failure, Out};
 use biasfit::report::html::{pick_list, SheetStage};
-use biasfit::report::result::read_result;
+use biasfit::report::result::{read_result, NotAResult, ResultError};
 use biasfit::report::spread::{render_spread, render_spread_svg, SpreadReport};
 use biasfit::spread::{analyse, Dist, Options};
 use biasfit::stage::{SlotNetworks, Stage};
@@ -131,7 +131,7 @@ pub fn run(args: SpreadArgs, out: &mut Out) -> Result<(), Failure> {
                 ))
             })?;
             read_result(&path.display().to_string(), &text, &chosen)
-                .map_err(|e| Failure::Input(e.to_string()))?
+                .map_err(|e| Failure::Input(result_error(&e)))?
         }
         None => {
             if chosen.len() > 1 {
@@ -248,6 +248,17 @@ fn spread_circuit(
     }
 }
 
+/// A design result refused, with the command that writes one when the file is not one at all.
+fn result_error(e: &ResultError) -> String {
+    let how = match e.not_a_result {
+        Some(NotAResult::NotJson) => "; expected the output of biasfit design --json",
+        Some(NotAResult::NoStages) => ", as biasfit design --json writes",
+        Some(NotAResult::OtherDesign) => "; expected what biasfit design --json wrote for this design file",
+        None => "",
+    };
+    format!("{e}{how}")
+}
+
 #[cfg(test)]
 mod tests {
     use super::*;
@@ -271,3 +282,4 @@ mod tests {
         }
     }
 }
+

@@ -167,7 +167,7 @@ pub fn run(args: StockArgs, out: &mut Out) -> Result<(), Failure> {
     if args.json {
         out.json(&summary)
     } else {
-        out.text(&summary.render())
+        out.text(&biasfit::report::stock::render(&summary))
     }
 }
 

@@ -109,6 +109,20 @@ struct Entry {
     id: PartId,
 }
 
+/// The window one search fills, with the figures every shape's bounds are computed from.
+#[derive(Clone, Copy)]
+struct Window {
+    low: f64,
+    high: f64,
+    /// 1/low (infinite for a window from 0).
+    inv_low: f64,
+    inv_high: f64,
+    /// The absolute slack the bounds are widened by before the exact check.
+    slack: f64,
+    /// How many networks are enough.
+    limit: usize,
+}
+
 /// A network found in a window, before it becomes a [`Candidate`]: entries (not part ids) in member order.
 #[derive(Clone, Copy, Debug)]
 struct Raw {
@@ -380,17 +394,26 @@ impl<'a> Index<'a> {
         self.value_range(from, lo * (1.0 - SLACK), hi * (1.0 + SLACK))
     }
 
-    /// Every network (not yet deduplicated) with a value in [low, high].
+    /// Every network (not yet deduplicated) with a value in [low, high], one shape after another; each
+    /// shape stops where the limit or the deadline does (both only ever become true, so the shapes after
+    /// a stop stop at once).
     fn collect(&self, low: f64, high: f64, limit: usize, out: &mut Vec<Raw>) {
         let n = self.entries.len();
         if n == 0 || high.is_nan() || low.is_nan() || high < low || high <= 0.0 {
             return;
         }
         let low = low.max(0.0);
-        let v = &self.values;
         let inv_low = if low > 0.0 { 1.0 / low } else { f64::INFINITY };
         let inv_high = 1.0 / high;
         let slack = SLACK * high;
+        let w = Window {
+            low,
+            high,
+            inv_low,
+            inv_high,
+            slack,
+            limit,
+        };
 
         for i in self.value_range(0, low, high) {
             self.emit(Shape::Single, [i as u32, 0, 0], low, high, out);
@@ -398,6 +421,21 @@ impl<'a> Index<'a> {
         if self.max_parts < 2 {
             return;
         }
+        self.series_pairs(&w, out);
+        self.parallel_pairs(&w, out);
+        if self.max_parts < 3 {
+            return;
+        }
+        self.series_triples(&w, out);
+        self.parallel_triples(&w, out);
+        self.series_of_parallel(&w, out);
+        self.parallel_of_series(&w, out);
+    }
+
+    /// The Series2 networks in the window: pairs a + b.
+    fn series_pairs(&self, w: &Window, out: &mut Vec<Raw>) {
+        let Window { low, high, slack, limit, .. } = *w;
+        let v = &self.values;
         // Pairs, a ≤ b: as a grows, b's bounds only fall, so two pointers walk down instead of a binary search
         // per a (the pair search is the one that must take microseconds).
         let mut range = Falling::new(v);
@@ -413,6 +451,12 @@ impl<'a> Index<'a> {
                 self.emit(Shape::Series2, [j as u32, i as u32, 0], low, high, out);
             }
         }
+    }
+
+    /// The Parallel2 networks in the window: pairs a | b, a ≤ b, found by conductance.
+    fn parallel_pairs(&self, w: &Window, out: &mut Vec<Raw>) {
+        let Window { low, high, inv_low, inv_high, limit, .. } = *w;
+        let v = &self.values;
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
             if self.stop(out.len(), limit) {
@@ -438,9 +482,12 @@ impl<'a> Index<'a> {
                 self.emit(Shape::Parallel2, [i as u32, j as u32, 0], low, high, out);
             }
         }
-        if self.max_parts < 3 {
-            return;
-        }
+    }
+
+    /// The Series3 networks in the window: a + b + c.
+    fn series_triples(&self, w: &Window, out: &mut Vec<Raw>) {
+        let Window { low, high, slack, limit, .. } = *w;
+        let v = &self.values;
         // Three in series, smallest first in the loops, written largest first.
         for (i, &a) in v.iter().enumerate() {
             if self.stop(out.len(), limit) {
@@ -467,6 +514,12 @@ impl<'a> Index<'a> {
                 }
             }
         }
+    }
+
+    /// The Parallel3 networks in the window: a | b | c.
+    fn parallel_triples(&self, w: &Window, out: &mut Vec<Raw>) {
+        let Window { low, high, inv_low, inv_high, limit, .. } = *w;
+        let v = &self.values;
         // Three in parallel: i ≤ j ≤ k by value, so 1/R is at least 1/a and at most 3/a.
         for (i, &a) in v.iter().enumerate() {
             if self.stop(out.len(), limit) {
@@ -511,6 +564,12 @@ impl<'a> Index<'a> {
                 }
             }
         }
+    }
+
+    /// The SeriesOfParallel networks in the window: a + (b | c).
+    fn series_of_parallel(&self, w: &Window, out: &mut Vec<Raw>) {
+        let Window { low, high, slack, limit, .. } = *w;
+        let v = &self.values;
         // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
             if self.stop(out.len(), limit) {
@@ -548,6 +607,12 @@ impl<'a> Index<'a> {
                 }
             }
         }
+    }
+
+    /// The ParallelOfSeries networks in the window: a | (b + c).
+    fn parallel_of_series(&self, w: &Window, out: &mut Vec<Raw>) {
+        let Window { low, high, inv_low, inv_high, limit, .. } = *w;
+        let v = &self.values;
         // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {
             if self.stop(out.len(), limit) {

@@ -6,6 +6,7 @@
 use super::{Member, Network};
 use crate::notation::value::{code, parse_ohms};
 use crate::units::{Tolerance, Watts};
+use itertools::Itertools;
 
 /// A network notation that could not be read.
 #[derive(Clone, Debug, PartialEq, Eq, thiserror::Error)]
@@ -225,7 +226,6 @@ impl Network {
                 let joined = parts
                     .iter()
                     .map(|p| p.notation_in(Some(series)))
-                    .collect::<Vec<_>>()
                     .join(if series { "+" } else { "|" });
                 // '|' binds tighter than '+', so only a series inside a parallel needs brackets; we also
                 // bracket a parallel inside a series, since people read a+(b|c) faster than a+b|c.

@@ -11,8 +11,8 @@ pub mod value;
 
 pub use eseries::Series;
 pub use quantity::{
-    engineering, parse_amps, parse_power, parse_tolerance, parse_volts, parse_watts, trim_number,
-    QuantityError,
+    amps, engineering, parse_amps, parse_power, parse_tolerance, parse_volts, parse_watts,
+    signed_percent, trim_number, volts, QuantityError,
 };
 pub use text::{excerpt, printable};
 pub use value::{code, parse_ohms, Code, ValueError};

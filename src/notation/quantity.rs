@@ -313,6 +313,30 @@ fn scientific(x: f64, sig: u32) -> String {
     }
 }
 
+/// Volts in engineering notation ("1.85 V"), as every table and sheet shows a voltage.
+pub fn volts(x: f64) -> String {
+    engineering(x, "V")
+}
+
+/// Amps in engineering notation ("2.01 mA").
+pub fn amps(x: f64) -> String {
+    engineering(x, "A")
+}
+
+/// A relative deviation as a signed percentage with two decimals ("+0.09 %", "-3.14 %"); below 0.0005 %
+/// (rounding, not a deviation) "0 %", and "∞" where there is no finite figure.
+pub fn signed_percent(x: f64) -> String {
+    if !x.is_finite() {
+        return "∞".into();
+    }
+    let p = x * 100.0;
+    if p.abs() < 0.0005 {
+        "0 %".into()
+    } else {
+        format!("{:+.2} %", p)
+    }
+}
+
 /// Formats a quantity in engineering notation with 3 significant digits: "2.45 mA", "12 V", "350 mW";
 /// beyond the prefixes p to T, in scientific notation ("1e-300 A").
 pub fn engineering(x: f64, unit: &str) -> String {
@@ -490,5 +514,16 @@ mod tests {
         assert_eq!(trim_number(1e300, 6), "1e300");
         assert_eq!(trim_number(-1.5e-20, 6), "-1.5e-20");
         assert_eq!(trim_number(0.25, 3), "0.25");
+    }
+
+    #[test]
+    fn signed_percent_shows_deviations_to_two_decimals() {
+        assert_eq!(signed_percent(0.0009), "+0.09 %");
+        assert_eq!(signed_percent(-0.0314), "-3.14 %");
+        // Rounding noise is no deviation, and no finite figure is shown as one.
+        assert_eq!(signed_percent(-1e-7), "0 %");
+        assert_eq!(signed_percent(f64::INFINITY), "∞");
+        assert_eq!(volts(1.85), "1.85 V");
+        assert_eq!(amps(0.00201), "2.01 mA");
     }
 }

@@ -243,15 +243,7 @@ impl CircuitReport {
         if self.span >= SAFE_EXTRA_LOW_VOLTAGE.0 {
             out.push(super::high_voltage_caution(&subject, self.span));
         }
-        let hot: Vec<&str> = self
-            .checks
-            .iter()
-            .filter(|c| c.unit == CheckUnit::Watts && !c.ok)
-            .map(|c| c.name.as_str())
-            .collect();
-        if !hot.is_empty() {
-            out.push(super::hot_caution(&subject, &hot));
-        }
+        out.extend(super::hot_caution(&subject, &self.checks));
         out
     }
 }

@@ -457,7 +457,9 @@ fn percent(x: f64) -> String {
 }
 
 /// The design report as text for people: a build sheet per stage, the baseline beside it, the pick list.
-pub fn render(r: &DesignReport, colour: bool) -> String {
+/// `more_time` says how to give the search more time ("allow more --time-limit" from the CLI, which owns
+/// the flags), for a search the time limit stopped.
+pub fn render(r: &DesignReport, colour: bool, more_time: &str) -> String {
     let mut out = String::new();
     for (i, s) in r.stages.iter().enumerate() {
         if i > 0 {
@@ -625,12 +627,12 @@ pub fn render(r: &DesignReport, colour: bool) -> String {
         let _ = match r.solver.bound {
             Some(b) if b > 0.0 => writeln!(
                 out,
-                "  proven: no design has a largest stage error below {} %; allow more --time-limit to close the gap",
+                "  proven: no design has a largest stage error below {} %; {more_time} to close the gap",
                 trim_number(b * 100.0, 3)
             ),
             _ => writeln!(
                 out,
-                "  nothing better is ruled out yet; allow more --time-limit to search further"
+                "  nothing better is ruled out yet; {more_time} to search further"
             ),
         };
     }

@@ -2,6 +2,7 @@
 //! sheet. Both mark the target and the ±5 % and ±10 % bands, because the question a reader brings is "how
 //! many builds land close enough to what I designed for".
 
+use super::svg::escape;
 use crate::notation::{engineering, trim_number};
 use crate::spread::Histogram;
 use std::fmt::Write;
@@ -100,14 +101,6 @@ fn fixed1(x: f64) -> String {
     }
 }
 
-/// Escapes text for an SVG text node.
-fn esc(s: &str) -> String {
-    s.replace('&', "&amp;")
-        .replace('<', "&lt;")
-        .replace('>', "&gt;")
-        .replace('"', "&quot;")
-}
-
 /// A whole number with thin-space thousands groups, as the SI brochure writes them: "20 000".
 pub fn grouped(n: u64) -> String {
     let digits = n.to_string();
@@ -168,7 +161,7 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
         r##"<g font-family="sans-serif" font-size="11"><text x="{:.1}" y="{:.1}" font-size="13" font-weight="bold">{}</text>"##,
         x + LEFT,
         y + 16.0,
-        esc(title)
+        escape(title)
     );
     for (frac, fill) in [(0.10, "#e4eef8"), (0.05, "#c6dcf0")] {
         let (a, b) = (axis.target * (1.0 - frac), axis.target * (1.0 + frac));
@@ -221,7 +214,7 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
             base - bh,
             (px(left + h.width()) - px(left) - 0.5).max(0.5),
             bh,
-            esc(&engineering(h.centre(k), axis.unit))
+            escape(&engineering(h.centre(k), axis.unit))
         );
     }
     let _ = writeln!(
@@ -250,7 +243,7 @@ pub fn render_svg_at(h: &Histogram, axis: &Axis<'_>, title: &str, x: f64, y: f64
             r##"<text x="{:.1}" y="{:.1}" text-anchor="{anchor}">{}</text>"##,
             px(v),
             base + 15.0,
-            esc(&label)
+            escape(&label)
         );
     }
     let _ = writeln!(
@@ -299,7 +292,7 @@ pub fn render_svg_headed(
             s,
             r##"<text x="10" y="{:.1}" font-family="sans-serif" font-size="13" font-weight="bold" class="heading">{}</text>"##,
             row as f64 * row_h + 17.0,
-            esc(heading)
+            escape(heading)
         );
     }
     for (i, (hist, axis, title)) in charts.iter().enumerate() {

@@ -12,7 +12,7 @@ use super::svg::{escape, load_line_svg, schematic_svg, LoadLine, Schematic};
 use super::table::check_value;
 use super::StageReport;
 use crate::network::Network;
-use crate::notation::{code, engineering, trim_number};
+use crate::notation::{amps, code, engineering, signed_percent, trim_number, volts};
 use crate::stage::{Slot, SlotNetworks, Stage};
 use crate::units::{Ohms, Tolerance};
 use std::collections::BTreeMap;
@@ -142,26 +142,6 @@ footer { margin-top: 18px; padding-top: 6px; border-top: 1px solid var(--rule); 
 
 fn e(s: &str) -> String {
     escape(s)
-}
-
-fn volts(x: f64) -> String {
-    engineering(x, "V")
-}
-
-fn amps(x: f64) -> String {
-    engineering(x, "A")
-}
-
-fn signed_percent(x: f64) -> String {
-    if !x.is_finite() {
-        return "∞".into();
-    }
-    let p = x * 100.0;
-    if p.abs() < 0.0005 {
-        "0 %".into()
-    } else {
-        format!("{:+.2} %", p)
-    }
 }
 
 /// One cell of the operating-point table, from an operating point.

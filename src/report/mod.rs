@@ -13,6 +13,7 @@ pub mod histogram;
 pub mod html;
 pub mod result;
 pub mod spread;
+pub mod stock;
 pub mod svg;
 pub mod table;
 pub mod verify;
@@ -75,14 +76,22 @@ pub(crate) fn high_voltage_caution(subject: &str, span: f64) -> String {
     )
 }
 
-/// The caution for parts over their derated power, named in `hot`.
-pub(crate) fn hot_caution(subject: &str, hot: &[&str]) -> String {
-    format!(
-        "{subject}: {} over the derated limit. A part run near its rating gets hot enough to burn \
-         skin and scorch a board; biasfit knows nothing of your airflow or enclosure. Touch nothing \
-         that has been powered until you have checked it is cool.",
-        hot.join(", ")
-    )
+/// The caution for the parts over their derated power, from the failed power checks among `checks`; none
+/// when every part is within its limit.
+pub(crate) fn hot_caution(subject: &str, checks: &[CheckReport]) -> Option<String> {
+    let hot: Vec<&str> = checks
+        .iter()
+        .filter(|c| c.unit == CheckUnit::Watts && !c.ok)
+        .map(|c| c.name.as_str())
+        .collect();
+    (!hot.is_empty()).then(|| {
+        format!(
+            "{subject}: {} over the derated limit. A part run near its rating gets hot enough to burn \
+             skin and scorch a board; biasfit knows nothing of your airflow or enclosure. Touch nothing \
+             that has been powered until you have checked it is cool.",
+            hot.join(", ")
+        )
+    })
 }
 
 /// What the rule asks for.
@@ -506,15 +515,10 @@ impl StageReport {
                 self.supply + self.supply_neg.unwrap_or(0.0),
             ));
         }
-        let hot: Vec<&str> = self
-            .checks
-            .iter()
-            .filter(|c| c.unit == CheckUnit::Watts && !c.ok)
-            .map(|c| c.name.as_str())
-            .collect();
-        if !hot.is_empty() {
-            out.push(hot_caution(&format!("stage \"{}\"", self.name), &hot));
-        }
+        out.extend(hot_caution(
+            &format!("stage \"{}\"", self.name),
+            &self.checks,
+        ));
         out
     }
 

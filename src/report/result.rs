@@ -20,6 +20,20 @@ pub struct ResultError {
     pub place: String,
     /// What is wrong, and what was expected.
     pub message: String,
+    /// When the file is not a design result for this design file at all: what it is not, so that the
+    /// caller can say which command writes one (the library names no command).
+    pub not_a_result: Option<NotAResult>,
+}
+
+/// How a file failed to be a design result for the design file at hand.
+#[derive(Clone, Copy, Debug, PartialEq, Eq)]
+pub enum NotAResult {
+    /// It is not JSON.
+    NotJson,
+    /// It is JSON without a `"stages"` list.
+    NoStages,
+    /// It has no stage of the design file's name.
+    OtherDesign,
 }
 
 /// How far a part's `ohms` may sit from the value its network string shows: the string rounds to at most 6
@@ -40,6 +54,19 @@ impl Reader<'_> {
             file: self.file.to_string(),
             place: place.into(),
             message: message.into(),
+            not_a_result: None,
+        })
+    }
+
+    fn not_a_result<T>(
+        &self,
+        place: impl Into<String>,
+        message: impl Into<String>,
+        why: NotAResult,
+    ) -> Result<T, ResultError> {
+        self.fail(place, message).map_err(|e| ResultError {
+            not_a_result: Some(why),
+            ..e
         })
     }
 
@@ -160,17 +187,19 @@ pub fn read_result(
 ) -> Result<Vec<SlotNetworks>, ResultError> {
     let r = Reader { file };
     let doc: Value = serde_json::from_str(text).or_else(|e| {
-        r.fail(
+        r.not_a_result(
             format!("line {}, column {}", e.line(), e.column()),
-            format!("not valid JSON ({e}); expected the output of biasfit design --json"),
+            format!("not valid JSON ({e})"),
+            NotAResult::NotJson,
         )
     })?;
     let list = match doc.get("stages").and_then(Value::as_array) {
         Some(l) => l,
         None => {
-            return r.fail(
+            return r.not_a_result(
                 "top level",
-                "expected an object with \"stages\", a list, as biasfit design --json writes",
+                "expected an object with \"stages\", a list",
+                NotAResult::NoStages,
             )
         }
     };
@@ -182,10 +211,10 @@ pub fn read_result(
     for st in stages {
         let Some(i) = names.iter().position(|n| *n == Some(st.name.as_str())) else {
             let found: Vec<String> = names.iter().flatten().map(|n| format!("\"{n}\"")).collect();
-            return r.fail(
+            return r.not_a_result(
                 "stages",
                 format!(
-                    "no stage named \"{}\" (from the design file); the result has {}; expected what biasfit design --json wrote for this design file",
+                    "no stage named \"{}\" (from the design file); the result has {}",
                     st.name,
                     if found.is_empty() {
                         "none with a name".to_string()
@@ -193,6 +222,7 @@ pub fn read_result(
                         found.join(", ")
                     }
                 ),
+                NotAResult::OtherDesign,
             );
         };
         let place = format!("stages[{i}] \"{}\"", st.name);

@@ -426,7 +426,7 @@ pub fn render_spread_svg(r: &SpreadReport) -> String {
 
 /// One circuit's spread: each target's Monte Carlo and worst case, the yield, and what moves each target.
 fn circuit_spread(c: &SpreadCircuit) -> String {
-    use super::table::{amps, volts};
+    use crate::notation::{amps, volts};
     let sp = &c.spread;
     let mut out = format!(
         "circuit \"{}\": {} builds ({} resistors, device parameters uniform over their ranges), seed {}; worst case over {} to {}\n",

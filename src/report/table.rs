@@ -3,10 +3,11 @@
 //! binary asks when stdout is a terminal).
 
 use super::{CheckReport, OpReport, Report, StageReport};
-use crate::notation::{code, engineering, trim_number};
+use crate::notation::{amps, code, engineering, signed_percent, trim_number, volts};
 use crate::stage::CheckUnit;
 use crate::units::Ohms;
 use std::fmt::Write;
+use itertools::Itertools;
 
 /// Columns of text, padded to line up; the first column is left-aligned, the rest right-aligned.
 pub(super) struct Grid {
@@ -85,26 +86,6 @@ pub(super) fn verdict(ok: bool, colour: bool) -> String {
     }
 }
 
-pub(super) fn percent(x: f64) -> String {
-    if !x.is_finite() {
-        return "∞".into();
-    }
-    let p = x * 100.0;
-    if p.abs() < 0.0005 {
-        "0 %".into()
-    } else {
-        format!("{:+.2} %", p)
-    }
-}
-
-pub(super) fn amps(x: f64) -> String {
-    engineering(x, "A")
-}
-
-pub(super) fn volts(x: f64) -> String {
-    engineering(x, "V")
-}
-
 pub(crate) fn check_value(c: &CheckReport, x: f64) -> String {
     c.unit.show(x)
 }
@@ -130,7 +111,6 @@ fn parts_text(parts: &[super::PartReport]) -> String {
             }
             t
         })
-        .collect::<Vec<_>>()
         .join(", ")
 }
 
@@ -328,19 +308,19 @@ pub fn render_check(r: &Report, colour: bool) -> String {
         let mut g = Grid::new(1);
         g.row(["at typ beta", "target", "actual", "deviation"]);
         let d = &s.deviations;
-        g.row(["IC".into(), amps(s.target.ic), amps(s.op.ic), percent(d.ic)]);
+        g.row(["IC".into(), amps(s.target.ic), amps(s.op.ic), signed_percent(d.ic)]);
         g.row([
             "VCE".into(),
             volts(s.target.vce),
             volts(s.op.vce),
-            percent(d.vce),
+            signed_percent(d.vce),
         ]);
         if let Some(dv) = d.ve {
             g.row([
                 "VE".into(),
                 volts(s.nodes.target_ve),
                 volts(s.nodes.typical.ve),
-                percent(real_sign(s, dv)),
+                signed_percent(real_sign(s, dv)),
             ]);
         }
         if let (Some(rl), Some(dr)) = (s.target.rc, d.rc) {
@@ -354,7 +334,7 @@ pub fn render_check(r: &Report, colour: bool) -> String {
                 "RC vs RL".into(),
                 code(Ohms(rl)),
                 code(Ohms(rc)),
-                percent(dr),
+                signed_percent(dr),
             ]);
         }
         if let (Some(gt), Some(dg), Some(ac)) = (s.target.gain, d.gain, &s.ac) {
@@ -366,7 +346,7 @@ pub fn render_check(r: &Report, colour: bool) -> String {
                 } else {
                     "none".to_string()
                 },
-                percent(dg),
+                signed_percent(dg),
             ]);
         }
         g.row([
@@ -468,7 +448,7 @@ fn circuit_check(c: &super::circuit::CircuitReport, colour: bool) -> String {
                 t.what.clone(),
                 show(t.target),
                 show(t.actual),
-                percent(t.deviation),
+                signed_percent(t.deviation),
             ]);
         }
         g.row([

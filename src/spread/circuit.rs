@@ -19,6 +19,7 @@ use crate::circuit::{Build, Circuit, Element, Kind, Options as SolveOptions, Pic
 use crate::network::Network;
 use crate::units::{Celsius, Tolerance};
 use serde::Serialize;
+use itertools::Itertools;
 
 /// One target over the builds.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -127,6 +128,7 @@ struct Builder<'a> {
 
 /// How one build departs from nominal: one relative deviation per resistor member (slots' members in
 /// order, then fixed resistors), one position in [0, 1] per ranged device, and a temperature.
+#[derive(Clone)]
 struct Draw {
     resistors: Vec<f64>,
     devices: Vec<f64>,
@@ -389,7 +391,6 @@ pub fn spread_circuit(
     }
 
     // Sensitivities: each slot and fixed resistor nudged as a whole, each ranged device end to end.
-    let mut sens = Vec::new();
     let mut owners: Vec<(String, std::ops::Range<usize>)> = Vec::new();
     let mut at = 0;
     for (k, n) in nets.iter().enumerate() {
@@ -402,73 +403,20 @@ pub fn spread_circuit(
             at += 1;
         }
     }
-    for (name, range) in &owners {
-        let mut up = Draw {
-            resistors: vec![0.0; nr],
-            devices: vec![0.5; nd],
-            temperature: ambient,
-        };
-        let mut down = Draw {
-            resistors: vec![0.0; nr],
-            devices: vec![0.5; nd],
-            temperature: ambient,
-        };
-        for k in range.clone() {
-            up.resistors[k] = NUDGE;
-            down.resistors[k] = -NUDGE;
-        }
-        let effect = match (judge(&up).map(|(v, _)| v), judge(&down).map(|(v, _)| v)) {
-            (Some(u), Some(w)) => (0..n_targets)
-                .map(|t| (u[t] - w[t]) / (2.0 * NUDGE * nominal[t]))
-                .collect(),
-            _ => vec![f64::NAN; n_targets],
-        };
-        sens.push(PartSensitivity {
-            part: name.clone(),
-            effect,
-            over: "resistance",
-        });
-    }
     let ranged: Vec<String> = c
         .parts
         .iter()
         .filter(|p| matches!(p.kind, Kind::Bjt { .. } | Kind::Jfet(_) | Kind::Mosfet(_)))
         .map(|p| p.name.clone())
         .collect();
-    for (k, name) in ranged.iter().enumerate() {
-        let mut low = Draw {
-            resistors: vec![0.0; nr],
-            devices: vec![0.5; nd],
-            temperature: ambient,
-        };
-        let mut high = Draw {
-            resistors: vec![0.0; nr],
-            devices: vec![0.5; nd],
-            temperature: ambient,
-        };
-        low.devices[k] = 0.0;
-        high.devices[k] = 1.0;
-        let effect = match (judge(&high).map(|(v, _)| v), judge(&low).map(|(v, _)| v)) {
-            (Some(u), Some(w)) => (0..n_targets).map(|t| (u[t] - w[t]) / nominal[t]).collect(),
-            _ => vec![f64::NAN; n_targets],
-        };
-        sens.push(PartSensitivity {
-            part: name.clone(),
-            effect,
-            over: "range",
-        });
-    }
+    let sens = sensitivities(&mut judge, &centre, &owners, &ranged, &nominal);
 
     // Worst case: for each target and direction, the corner the signs point to, at both temperatures.
     let mut worst = Vec::with_capacity(n_targets);
     for t in 0..n_targets {
         let mut low_high = (nominal[t], nominal[t]);
         for dir in [-1.0, 1.0] {
-            let mut corner = Draw {
-                resistors: vec![0.0; nr],
-                devices: vec![0.5; nd],
-                temperature: ambient,
-            };
+            let mut corner = centre.clone();
             for (s, (_, range)) in sens.iter().zip(&owners) {
                 let sign = (s.effect[t] * dir).signum();
                 for k in range.clone() {
@@ -548,6 +496,50 @@ pub fn spread_circuit(
     })
 }
 
+/// Each slot and fixed resistor (`owners`: its members' places in a draw) nudged as a whole by ±NUDGE, per
+/// unit of resistance, then each ranged device from the low to the high end of its range: the change in
+/// every target relative to its `nominal` value, NaN where either end does not solve. `judge` solves a
+/// draw; it is called in the order the figures are listed (a solver may start from its last solution).
+fn sensitivities(
+    judge: &mut impl FnMut(&Draw) -> Option<(Vec<f64>, Vec<bool>)>,
+    centre: &Draw,
+    owners: &[(String, std::ops::Range<usize>)],
+    ranged: &[String],
+    nominal: &[f64],
+) -> Vec<PartSensitivity> {
+    let n = nominal.len();
+    let mut effect = |up: &Draw, down: &Draw, span: f64| -> Vec<f64> {
+        match (judge(up).map(|(v, _)| v), judge(down).map(|(v, _)| v)) {
+            (Some(u), Some(w)) => (0..n).map(|t| (u[t] - w[t]) / (span * nominal[t])).collect(),
+            _ => vec![f64::NAN; n],
+        }
+    };
+    let mut sens = Vec::with_capacity(owners.len() + ranged.len());
+    for (name, range) in owners {
+        let (mut up, mut down) = (centre.clone(), centre.clone());
+        for k in range.clone() {
+            up.resistors[k] = NUDGE;
+            down.resistors[k] = -NUDGE;
+        }
+        sens.push(PartSensitivity {
+            part: name.clone(),
+            effect: effect(&up, &down, 2.0 * NUDGE),
+            over: "resistance",
+        });
+    }
+    for (k, name) in ranged.iter().enumerate() {
+        let (mut low, mut high) = (centre.clone(), centre.clone());
+        low.devices[k] = 0.0;
+        high.devices[k] = 1.0;
+        sens.push(PartSensitivity {
+            part: name.clone(),
+            effect: effect(&high, &low, 1.0),
+            over: "range",
+        });
+    }
+    sens
+}
+
 /// A requirement in words: "Q1 saturation", "overdrive Q1 ≥ 2".
 fn describe_requirement(c: &Circuit, r: &crate::circuit::Requirement) -> String {
     use crate::circuit::Requirement;
@@ -558,7 +550,6 @@ fn describe_requirement(c: &Circuit, r: &crate::circuit::Requirement) -> String 
             allowed
                 .iter()
                 .map(|x| x.name())
-                .collect::<Vec<_>>()
                 .join(" or ")
         ),
         Requirement::MinCurrent { part, amps } => format!(

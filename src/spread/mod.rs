@@ -26,6 +26,7 @@ use crate::stage::{OperatingPoint, Slot, SlotNetworks, Stage, Targets};
 use crate::units::{Amps, Celsius, Volts, Watts};
 use serde::ser::{SerializeMap, SerializeSeq};
 use serde::{Serialize, Serializer};
+use itertools::Itertools;
 
 /// A quantity the spread reports on: a unit type, or a plain ratio as `f64`, with its value in SI base units.
 pub trait Quantity: Copy + std::fmt::Debug + PartialEq + Serialize {
@@ -152,7 +153,6 @@ pub fn analyse(
                     .slots()
                     .iter()
                     .map(|s| s.name())
-                    .collect::<Vec<_>>()
                     .join(", "),
             });
         }

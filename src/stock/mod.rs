@@ -19,6 +19,7 @@ use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::path::Path;
 use table::{Column, Schema, Table};
+use itertools::Itertools;
 
 pub use summary::Summary;
 pub use table::{CsvError, Layout};
@@ -176,7 +177,6 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         names
             .iter()
             .map(|n| format!("'{}'", crate::notation::excerpt(n)))
-            .collect::<Vec<_>>()
             .join(", ")
     };
     if !table.ignored.is_empty() {
@@ -188,7 +188,6 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
                 .columns
                 .iter()
                 .map(|c| c.name)
-                .collect::<Vec<_>>()
                 .join(", ")
         ));
     }
@@ -202,59 +201,21 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         let get = |column: &str| table.get(record, column);
         let field =
             |column: &'static str, message: String| table.field_error(record, column, message);
-        // A row too short to reach a required column is a row whose delimiters went astray ("4k7;10" in a
-        // comma file), better said as such than as a blank field.
-        for column in ["value", "qty"] {
-            if table.field(record, column).is_none() {
-                let width = table.layout.width;
-                let n = record.fields.len();
-                return Err(table.row_error(
-                    record,
-                    format!(
-                        "the row has {n} field(s) but the header has {width}, so it gives no {column}; expected fields separated by '{}' as in the header",
-                        table.layout.delimiter as char
-                    ),
-                ));
-            }
-        }
-        let value = get("value");
-        if value.is_empty() {
-            return Err(field(
-                "value",
-                "the value is missing; expected a resistance such as 4k7".into(),
-            ));
-        }
-        let ohms = parse_ohms(value).map_err(|e| field("value", e.to_string()))?;
-        let qty_text = get("qty");
-        if qty_text.is_empty() {
-            return Err(field(
-                "qty",
-                "the qty is missing; expected a whole number of pieces, 0 or more".into(),
-            ));
-        }
-        let qty: u32 = parse_count(qty_text).ok_or_else(|| {
-            field(
-                "qty",
-                format!(
-                    "\"{}\" is not a quantity; expected a whole number of pieces, 0 or more",
-                    crate::notation::excerpt(qty_text)
-                ),
-            )
-        })?;
-        let tolerance = match get("tolerance") {
-            "" => {
-                no_tolerance += 1;
-                defaults.tolerance
-            }
-            t => parse_tolerance(t).map_err(|e| field("tolerance", e.to_string()))?,
-        };
-        let power = match get("power") {
-            "" => {
-                no_power += 1;
-                defaults.power
-            }
-            p => parse_watts(p).map_err(|e| field("power", e.to_string()))?,
-        };
+        let Fields {
+            ohms,
+            qty,
+            qty_text,
+            tolerance,
+            power,
+        } = read_fields(&table, record)?;
+        let tolerance = tolerance.unwrap_or_else(|| {
+            no_tolerance += 1;
+            defaults.tolerance
+        });
+        let power = power.unwrap_or_else(|| {
+            no_power += 1;
+            defaults.power
+        });
         let key = (ohms.0.to_bits(), tolerance.0.to_bits(), power.0.to_bits());
         let id = *by_key.entry(key).or_insert_with(|| {
             parts.push(Part {
@@ -343,6 +304,77 @@ pub fn parse(file: &str, bytes: &[u8], defaults: Defaults) -> Result<Stock, Stoc
         ignored: table.ignored,
         header,
         warnings,
+    })
+}
+
+/// One stock row's value and quantity, and its tolerance and rating where it gives them (None: the
+/// default applies), each refused at its field.
+struct Fields<'r> {
+    ohms: Ohms,
+    qty: u32,
+    /// The qty as written, for a message about the part's total.
+    qty_text: &'r str,
+    tolerance: Option<Tolerance>,
+    power: Option<Watts>,
+}
+
+fn read_fields<'r>(table: &Table, record: &'r table::Record) -> Result<Fields<'r>, StockError> {
+    let get = |column: &str| table.get(record, column);
+    let field =
+        |column: &'static str, message: String| table.field_error(record, column, message);
+    // A row too short to reach a required column is a row whose delimiters went astray ("4k7;10" in a
+    // comma file), better said as such than as a blank field.
+    for column in ["value", "qty"] {
+        if table.field(record, column).is_none() {
+            let width = table.layout.width;
+            let n = record.fields.len();
+            return Err(table.row_error(
+                record,
+                format!(
+                    "the row has {n} field(s) but the header has {width}, so it gives no {column}; expected fields separated by '{}' as in the header",
+                    table.layout.delimiter as char
+                ),
+            ));
+        }
+    }
+    let value = get("value");
+    if value.is_empty() {
+        return Err(field(
+            "value",
+            "the value is missing; expected a resistance such as 4k7".into(),
+        ));
+    }
+    let ohms = parse_ohms(value).map_err(|e| field("value", e.to_string()))?;
+    let qty_text = get("qty");
+    if qty_text.is_empty() {
+        return Err(field(
+            "qty",
+            "the qty is missing; expected a whole number of pieces, 0 or more".into(),
+        ));
+    }
+    let qty: u32 = parse_count(qty_text).ok_or_else(|| {
+        field(
+            "qty",
+            format!(
+                "\"{}\" is not a quantity; expected a whole number of pieces, 0 or more",
+                crate::notation::excerpt(qty_text)
+            ),
+        )
+    })?;
+    let tolerance = match get("tolerance") {
+        "" => None,
+        t => Some(parse_tolerance(t).map_err(|e| field("tolerance", e.to_string()))?),
+    };
+    let power = match get("power") {
+        "" => None,
+        p => Some(parse_watts(p).map_err(|e| field("power", e.to_string()))?),
+    };
+    Ok(Fields {
+        ohms,
+        qty,
+        qty_text,
+        tolerance,
+        power,
     })
 }
 

@@ -1,8 +1,8 @@
 //! A stock's summary: what is in the drawer, by decade, which common values are missing, and the mix of
-//! tolerances and ratings. The struct is also the `stock --json` schema.
+//! tolerances and ratings. The struct is also the `stock --json` schema; `report::stock` renders it for people.
 
 use super::Stock;
-use crate::notation::{code, Series};
+use crate::notation::Series;
 use crate::units::Ohms;
 use serde::Serialize;
 use std::collections::BTreeMap;
@@ -138,104 +138,6 @@ impl Summary {
             warnings: stock.warnings.clone(),
         }
     }
-
-    /// The summary as an aligned table for people.
-    pub fn render(&self) -> String {
-        use std::fmt::Write;
-        let mut out = String::new();
-        let _ = writeln!(out, "stock {}", self.file);
-        let _ = writeln!(
-            out,
-            "  {} distinct values, {} pieces{}",
-            self.distinct,
-            self.pieces,
-            if self.empty > 0 {
-                format!(" ({} listed with none left)", self.empty)
-            } else {
-                String::new()
-            }
-        );
-        if let Some((lo, hi)) = self.range {
-            let _ = writeln!(out, "  from {} to {}", code(Ohms(lo)), code(Ohms(hi)));
-        }
-        // Said here, once, rather than by every command that reads the file.
-        let read = self
-            .columns
-            .iter()
-            .map(|(ours, theirs)| {
-                if ours.eq_ignore_ascii_case(theirs) {
-                    ours.clone()
-                } else {
-                    format!("{ours} ← \"{theirs}\"")
-                }
-            })
-            .collect::<Vec<_>>()
-            .join(", ");
-        let _ = writeln!(out, "  columns read ({}-separated): {read}", self.delimiter);
-        let _ = writeln!(out, "\n  decade         values  pieces");
-        for d in &self.decades {
-            let label = format!("{} – {}", code(Ohms(d.from)), code(Ohms(d.from * 10.0)));
-            let _ = writeln!(out, "  {:<14} {:>6}  {:>6}", label, d.values, d.pieces);
-        }
-        let list = |v: &[f64]| -> String {
-            const SHOWN: usize = 24;
-            let mut s = v
-                .iter()
-                .take(SHOWN)
-                .map(|x| code(Ohms(*x)))
-                .collect::<Vec<_>>()
-                .join(" ");
-            if v.len() > SHOWN {
-                let _ = write!(s, " … (+{} more)", v.len() - SHOWN);
-            }
-            if v.is_empty() {
-                s.push_str("none");
-            }
-            s
-        };
-        let _ = writeln!(
-            out,
-            "\n  missing E12 ({}): {}",
-            self.missing_e12.len(),
-            list(&self.missing_e12)
-        );
-        let _ = writeln!(
-            out,
-            "  missing E24 ({}): {}",
-            self.missing_e24.len(),
-            list(&self.missing_e24)
-        );
-        if self.off_series > 0 {
-            let _ = writeln!(out, "  {} value(s) outside E24", self.off_series);
-        }
-        let tol = self
-            .tolerances
-            .iter()
-            .map(|m| {
-                format!(
-                    "{} % × {}",
-                    crate::notation::trim_number(m.value * 100.0, 3),
-                    m.pieces
-                )
-            })
-            .collect::<Vec<_>>()
-            .join(", ");
-        let pow = self
-            .powers
-            .iter()
-            .map(|m| {
-                format!(
-                    "{} × {}",
-                    crate::notation::engineering(m.value, "W"),
-                    m.pieces
-                )
-            })
-            .collect::<Vec<_>>()
-            .join(", ");
-        let _ = writeln!(out, "\n  tolerance: {tol}");
-        let _ = writeln!(out, "  power:     {pow}");
-        out
-    }
 }
 
 #[cfg(test)]
@@ -283,6 +185,6 @@ mod tests {
                 pieces: 6
             }
         );
-        assert!(s.render().contains("3 distinct values, 9 pieces"));
+        assert!(crate::report::stock::render(&s).contains("3 distinct values, 9 pieces"));
     }
 }

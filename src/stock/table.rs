@@ -23,6 +23,7 @@ use crate::notation::text::{invisible_name, show_invisible};
 use std::collections::HashMap;
 use std::ops::Range;
 use std::path::Path;
+use itertools::Itertools;
 
 /// A column a file kind reads, with the header names it accepts for it (lower case).
 #[derive(Clone, Copy, Debug)]
@@ -409,7 +410,7 @@ pub fn header_name(text: &str) -> (String, Option<String>) {
         .trim_end_matches('.')
         .to_lowercase()
         .replace(['_', '-'], " ");
-    (name.split_whitespace().collect::<Vec<_>>().join(" "), unit)
+    (name.split_whitespace().join(" "), unit)
 }
 
 /// How a bare number under a known column with a unit in its header is read: the suffix that makes the
@@ -641,7 +642,6 @@ impl Table {
                             .fields
                             .iter()
                             .map(|f| f.text.as_str())
-                            .collect::<Vec<_>>()
                             .join(&(delimiter as char).to_string()),
                     )
                     .into_owned(),
@@ -873,7 +873,7 @@ mod tests {
         #[test]
         fn quoted_fields_read_back(cells in proptest::collection::vec("[ -~]{0,8}", 1..5), delim in prop_oneof![Just(b','), Just(b';')]) {
             // Whatever `quote` writes, the reader gives back trimmed.
-            let line = cells.iter().map(|c| quote(c, delim)).collect::<Vec<_>>().join(&(delim as char).to_string());
+            let line = cells.iter().map(|c| quote(c, delim)).join(&(delim as char).to_string());
             let fields = split_line(&line, 0, delim).unwrap();
             prop_assert_eq!(fields.len(), cells.len());
             for (f, c) in fields.iter().zip(&cells) {

@@ -1,7 +1,7 @@
-//! Helpers shared by the integration tests: run the real binary, and compare output with snapshots.
+//! Helpers shared by the integration tests: run the real binary and read its output (snapshots are insta's).
 #![allow(dead_code)]
 
-use std::path::{Path, PathBuf};
+use std::path::PathBuf;
 use std::process::{Command, Output};
 
 /// The crate's root folder.
@@ -43,25 +43,4 @@ pub fn stdout(o: &Output) -> String {
 /// Standard error as text.
 pub fn stderr(o: &Output) -> String {
     String::from_utf8_lossy(&o.stderr).into_owned()
-}
-
-/// Compares `actual` with the snapshot file; with UPDATE_SNAPSHOTS=1 set, writes it instead.
-pub fn snapshot(path: &Path, actual: &str) {
-    let path = root().join(path);
-    if std::env::var_os("UPDATE_SNAPSHOTS").is_some() {
-        std::fs::write(&path, actual).expect("snapshot written");
-        return;
-    }
-    let expected = std::fs::read_to_string(&path).unwrap_or_else(|_| {
-        panic!(
-            "no snapshot {}; run with UPDATE_SNAPSHOTS=1 to create it",
-            path.display()
-        )
-    });
-    assert_eq!(
-        actual,
-        expected,
-        "output differs from snapshot {}",
-        path.display()
-    );
 }
