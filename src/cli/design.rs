@@ -122,8 +122,13 @@ fn keeps(file: &DesignFile, args: &DesignArgs) -> Result<Keeps, Failure> {
         let (position, slot) = match target.split_once(':') {
             Some((st, sl)) => {
                 let p = file.position(st.trim()).ok_or_else(|| {
+                    let (what, numbers) = match (file.circuits.is_empty(), positions) {
+                        (true, 1) => ("stage", "1".to_string()),
+                        (true, n) => ("stage", format!("1 to {n}")),
+                        (false, n) => ("stage or circuit", format!("1 to {n}")),
+                    };
                     Failure::Input(format!(
-                        "--keep {item}: {} has no stage or circuit \"{st}\"; give its number (1 to {positions}) or its name ({})",
+                        "--keep {item}: {} has no {what} \"{st}\"; give its number ({numbers}) or its name ({})",
                         file.file,
                         file.names().join(", ")
                     ))
@@ -139,9 +144,14 @@ fn keeps(file: &DesignFile, args: &DesignArgs) -> Result<Keeps, Failure> {
                 target.trim(),
             ),
             None => {
+                let what = if file.circuits.is_empty() {
+                    "stages"
+                } else {
+                    "stages and circuits"
+                };
                 return Err(Failure::Input(format!(
-                    "--keep {item}: the file has {positions} stages and circuits; say which, as in 1:{item}"
-                )))
+                    "--keep {item}: the file has {positions} {what}; say which, as in 1:{item}"
+                )));
             }
         };
         match position {
