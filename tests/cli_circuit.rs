@@ -215,20 +215,24 @@ fn a_file_with_a_stage_and_a_circuit_asks_which_and_takes_either() {
         "{}",
         stderr(&stage)
     );
-    let design = biasfit(&["design", f, "--stock", "stock/e12-kit.csv"]);
-    assert_eq!(design.status.code(), Some(0), "{}", stderr(&design));
-    assert!(stdout(&design).contains("line driver"));
+    // design fills the stage and the circuit from one stock; ideal still works on the stages only.
+    let design = biasfit(&["design", f, "--stock", "stock/e12-kit.csv", "--json"]);
+    let v: Value = serde_json::from_slice(&design.stdout).expect(&stderr(&design));
+    assert_eq!(v["stages"][0]["name"], "line driver");
+    assert!(v["circuits"][0]["name"].is_string(), "{v}");
+    assert_eq!(v["circuits"][0]["copies"], 1);
+    let ideal = biasfit(&["ideal", f]);
     assert!(
-        stderr(&design).contains("also holds 1 [[circuit]] table; this command works on its [[stage]] tables and leaves it out"),
+        stderr(&ideal).contains("also holds 1 [[circuit]] table; this command works on its [[stage]] tables and leaves it out"),
         "{}",
-        stderr(&design)
+        stderr(&ideal)
     );
     let _ = std::fs::remove_dir_all(&dir);
 }
 
 #[test]
 fn stage_commands_on_a_circuit_only_file_say_what_reads_circuits() {
-    let out = biasfit(&["design", LEDS, "--stock", "stock/hobby-drawer.csv"]);
+    let out = biasfit(&["ideal", LEDS]);
     assert_eq!(out.status.code(), Some(2));
     let err = stderr(&out);
     assert_eq!(err.lines().count(), 1, "{err}");

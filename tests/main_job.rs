@@ -10,10 +10,12 @@ use common::*;
 /// The output with the solver's elapsed time ("200 variants in 0.01 s") masked as `T s`.
 fn masked(text: &str) -> String {
     text.lines()
-        .map(|l| match (l.strip_prefix("solver: "), l.find(" in "), l.find(" s")) {
-            (Some(_), Some(i), Some(j)) if j > i => format!("{} in T{}", &l[..i], &l[j..]),
-            _ => l.to_string(),
-        })
+        .map(
+            |l| match (l.strip_prefix("solver: "), l.find(" in "), l.find(" s")) {
+                (Some(_), Some(i), Some(j)) if j > i => format!("{} in T{}", &l[..i], &l[j..]),
+                _ => l.to_string(),
+            },
+        )
         .collect::<Vec<_>>()
         .join("\n")
 }

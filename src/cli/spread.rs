@@ -253,7 +253,9 @@ fn result_error(e: &ResultError) -> String {
     let how = match e.not_a_result {
         Some(NotAResult::NotJson) => "; expected the output of biasfit design --json",
         Some(NotAResult::NoStages) => ", as biasfit design --json writes",
-        Some(NotAResult::OtherDesign) => "; expected what biasfit design --json wrote for this design file",
+        Some(NotAResult::OtherDesign) => {
+            "; expected what biasfit design --json wrote for this design file"
+        }
         None => "",
     };
     format!("{e}{how}")
@@ -282,4 +284,3 @@ mod tests {
         }
     }
 }
-

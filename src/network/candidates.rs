@@ -434,7 +434,13 @@ impl<'a> Index<'a> {
 
     /// The Series2 networks in the window: pairs a + b.
     fn series_pairs(&self, w: &Window, out: &mut Vec<Raw>) {
-        let Window { low, high, slack, limit, .. } = *w;
+        let Window {
+            low,
+            high,
+            slack,
+            limit,
+            ..
+        } = *w;
         let v = &self.values;
         // Pairs, a ≤ b: as a grows, b's bounds only fall, so two pointers walk down instead of a binary search
         // per a (the pair search is the one that must take microseconds).
@@ -455,7 +461,14 @@ impl<'a> Index<'a> {
 
     /// The Parallel2 networks in the window: pairs a | b, a ≤ b, found by conductance.
     fn parallel_pairs(&self, w: &Window, out: &mut Vec<Raw>) {
-        let Window { low, high, inv_low, inv_high, limit, .. } = *w;
+        let Window {
+            low,
+            high,
+            inv_low,
+            inv_high,
+            limit,
+            ..
+        } = *w;
         let v = &self.values;
         let mut range = Falling::new(v);
         for (i, &a) in v.iter().enumerate() {
@@ -486,7 +499,13 @@ impl<'a> Index<'a> {
 
     /// The Series3 networks in the window: a + b + c.
     fn series_triples(&self, w: &Window, out: &mut Vec<Raw>) {
-        let Window { low, high, slack, limit, .. } = *w;
+        let Window {
+            low,
+            high,
+            slack,
+            limit,
+            ..
+        } = *w;
         let v = &self.values;
         // Three in series, smallest first in the loops, written largest first.
         for (i, &a) in v.iter().enumerate() {
@@ -518,7 +537,14 @@ impl<'a> Index<'a> {
 
     /// The Parallel3 networks in the window: a | b | c.
     fn parallel_triples(&self, w: &Window, out: &mut Vec<Raw>) {
-        let Window { low, high, inv_low, inv_high, limit, .. } = *w;
+        let Window {
+            low,
+            high,
+            inv_low,
+            inv_high,
+            limit,
+            ..
+        } = *w;
         let v = &self.values;
         // Three in parallel: i ≤ j ≤ k by value, so 1/R is at least 1/a and at most 3/a.
         for (i, &a) in v.iter().enumerate() {
@@ -568,7 +594,13 @@ impl<'a> Index<'a> {
 
     /// The SeriesOfParallel networks in the window: a + (b | c).
     fn series_of_parallel(&self, w: &Window, out: &mut Vec<Raw>) {
-        let Window { low, high, slack, limit, .. } = *w;
+        let Window {
+            low,
+            high,
+            slack,
+            limit,
+            ..
+        } = *w;
         let v = &self.values;
         // a+(b|c), b ≤ c: the pair's value p lies in [low − a, high − a], and in [b/2, b] since c ≥ b.
         for (x, &a) in v.iter().enumerate() {
@@ -611,7 +643,14 @@ impl<'a> Index<'a> {
 
     /// The ParallelOfSeries networks in the window: a | (b + c).
     fn parallel_of_series(&self, w: &Window, out: &mut Vec<Raw>) {
-        let Window { low, high, inv_low, inv_high, limit, .. } = *w;
+        let Window {
+            low,
+            high,
+            inv_low,
+            inv_high,
+            limit,
+            ..
+        } = *w;
         let v = &self.values;
         // a|(b+c), b ≥ c: the pair's value s has 1/s in [1/high − 1/a, 1/low − 1/a], and s lies in [b, 2b].
         for (x, &a) in v.iter().enumerate() {

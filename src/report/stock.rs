@@ -45,11 +45,7 @@ pub fn render(s: &Summary) -> String {
     }
     let list = |v: &[f64]| -> String {
         const SHOWN: usize = 24;
-        let mut line = v
-            .iter()
-            .take(SHOWN)
-            .map(|x| code(Ohms(*x)))
-            .join(" ");
+        let mut line = v.iter().take(SHOWN).map(|x| code(Ohms(*x))).join(" ");
         if v.len() > SHOWN {
             let _ = write!(line, " … (+{} more)", v.len() - SHOWN);
         }
@@ -76,24 +72,12 @@ pub fn render(s: &Summary) -> String {
     let tol = s
         .tolerances
         .iter()
-        .map(|m| {
-            format!(
-                "{} % × {}",
-                trim_number(m.value * 100.0, 3),
-                m.pieces
-            )
-        })
+        .map(|m| format!("{} % × {}", trim_number(m.value * 100.0, 3), m.pieces))
         .join(", ");
     let pow = s
         .powers
         .iter()
-        .map(|m| {
-            format!(
-                "{} × {}",
-                engineering(m.value, "W"),
-                m.pieces
-            )
-        })
+        .map(|m| format!("{} × {}", engineering(m.value, "W"), m.pieces))
         .join(", ");
     let _ = writeln!(out, "\n  tolerance: {tol}");
     let _ = writeln!(out, "  power:     {pow}");

@@ -6,8 +6,8 @@ use super::{CheckReport, OpReport, Report, StageReport};
 use crate::notation::{amps, code, engineering, signed_percent, trim_number, volts};
 use crate::stage::CheckUnit;
 use crate::units::Ohms;
-use std::fmt::Write;
 use itertools::Itertools;
+use std::fmt::Write;
 
 /// Columns of text, padded to line up; the first column is left-aligned, the rest right-aligned.
 pub(super) struct Grid {
@@ -308,7 +308,12 @@ pub fn render_check(r: &Report, colour: bool) -> String {
         let mut g = Grid::new(1);
         g.row(["at typ beta", "target", "actual", "deviation"]);
         let d = &s.deviations;
-        g.row(["IC".into(), amps(s.target.ic), amps(s.op.ic), signed_percent(d.ic)]);
+        g.row([
+            "IC".into(),
+            amps(s.target.ic),
+            amps(s.op.ic),
+            signed_percent(d.ic),
+        ]);
         g.row([
             "VCE".into(),
             volts(s.target.vce),

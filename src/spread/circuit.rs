@@ -18,8 +18,8 @@ use crate::circuit::fet::SquareLaw;
 use crate::circuit::{Build, Circuit, Element, Kind, Options as SolveOptions, Pick, Solver};
 use crate::network::Network;
 use crate::units::{Celsius, Tolerance};
-use serde::Serialize;
 use itertools::Itertools;
+use serde::Serialize;
 
 /// One target over the builds.
 #[derive(Clone, Debug, PartialEq, Serialize)]
@@ -510,7 +510,9 @@ fn sensitivities(
     let n = nominal.len();
     let mut effect = |up: &Draw, down: &Draw, span: f64| -> Vec<f64> {
         match (judge(up).map(|(v, _)| v), judge(down).map(|(v, _)| v)) {
-            (Some(u), Some(w)) => (0..n).map(|t| (u[t] - w[t]) / (span * nominal[t])).collect(),
+            (Some(u), Some(w)) => (0..n)
+                .map(|t| (u[t] - w[t]) / (span * nominal[t]))
+                .collect(),
             _ => vec![f64::NAN; n],
         }
     };
@@ -547,10 +549,7 @@ fn describe_requirement(c: &Circuit, r: &crate::circuit::Requirement) -> String 
         Requirement::Region { part, allowed } => format!(
             "{} {}",
             c.parts[*part].name,
-            allowed
-                .iter()
-                .map(|x| x.name())
-                .join(" or ")
+            allowed.iter().map(|x| x.name()).join(" or ")
         ),
         Requirement::MinCurrent { part, amps } => format!(
             "current {} ≥ {}",

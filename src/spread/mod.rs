@@ -24,9 +24,9 @@ pub use sensitivity::{sensitivities, Sensitivities, Sensitivity, Source};
 
 use crate::stage::{OperatingPoint, Slot, SlotNetworks, Stage, Targets};
 use crate::units::{Amps, Celsius, Volts, Watts};
+use itertools::Itertools;
 use serde::ser::{SerializeMap, SerializeSeq};
 use serde::{Serialize, Serializer};
-use itertools::Itertools;
 
 /// A quantity the spread reports on: a unit type, or a plain ratio as `f64`, with its value in SI base units.
 pub trait Quantity: Copy + std::fmt::Debug + PartialEq + Serialize {
@@ -149,11 +149,7 @@ pub fn analyse(
             return Err(SpreadError::MissingSlot {
                 stage: stage.name.clone(),
                 slot: s,
-                expected: stage
-                    .slots()
-                    .iter()
-                    .map(|s| s.name())
-                    .join(", "),
+                expected: stage.slots().iter().map(|s| s.name()).join(", "),
             });
         }
     }

@@ -15,11 +15,11 @@ pub mod table;
 
 use crate::notation::{parse_ohms, parse_tolerance, parse_watts};
 use crate::units::{Ohms, Tolerance, Watts};
+use itertools::Itertools;
 use std::collections::{HashMap, HashSet};
 use std::ops::Range;
 use std::path::Path;
 use table::{Column, Schema, Table};
-use itertools::Itertools;
 
 pub use summary::Summary;
 pub use table::{CsvError, Layout};
@@ -320,8 +320,7 @@ struct Fields<'r> {
 
 fn read_fields<'r>(table: &Table, record: &'r table::Record) -> Result<Fields<'r>, StockError> {
     let get = |column: &str| table.get(record, column);
-    let field =
-        |column: &'static str, message: String| table.field_error(record, column, message);
+    let field = |column: &'static str, message: String| table.field_error(record, column, message);
     // A row too short to reach a required column is a row whose delimiters went astray ("4k7;10" in a
     // comma file), better said as such than as a blank field.
     for column in ["value", "qty"] {

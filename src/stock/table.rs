@@ -20,10 +20,10 @@
 //! would only add a second parser.
 
 use crate::notation::text::{invisible_name, show_invisible};
+use itertools::Itertools;
 use std::collections::HashMap;
 use std::ops::Range;
 use std::path::Path;
-use itertools::Itertools;
 
 /// A column a file kind reads, with the header names it accepts for it (lower case).
 #[derive(Clone, Copy, Debug)]
