@@ -36,7 +36,11 @@ fn stock_around(ideal: &[Ohms], rng: &mut Rng, per_slot: usize) -> Stock {
             let v: f64 = format!("{v:.2e}").parse().unwrap();
             parts.push(Part {
                 ohms: Ohms(v),
-                tolerance: Tolerance(if rng.next() % 3 == 0 { 0.01 } else { 0.05 }),
+                tolerance: Tolerance(if rng.next().is_multiple_of(3) {
+                    0.01
+                } else {
+                    0.05
+                }),
                 power: Watts([0.125, 0.25, 0.5][(rng.next() % 3) as usize]),
                 qty: 1 + (rng.next() % 2) as u32,
                 locations: vec![format!("bin {}", parts.len() + 1)],

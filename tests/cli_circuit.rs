@@ -217,7 +217,8 @@ fn a_file_with_a_stage_and_a_circuit_asks_which_and_takes_either() {
     );
     // design fills the stage and the circuit from one stock; ideal still works on the stages only.
     let design = biasfit(&["design", f, "--stock", "stock/e12-kit.csv", "--json"]);
-    let v: Value = serde_json::from_slice(&design.stdout).expect(&stderr(&design));
+    let v: Value =
+        serde_json::from_slice(&design.stdout).unwrap_or_else(|_| panic!("{}", stderr(&design)));
     assert_eq!(v["stages"][0]["name"], "line driver");
     assert!(v["circuits"][0]["name"].is_string(), "{v}");
     assert_eq!(v["circuits"][0]["copies"], 1);

@@ -10,6 +10,9 @@
 //!
 //! Relies on [`super::faults`] for what each fault does to the build and [`crate::stage`] for the solve.
 
+// Dense elimination and rotations read as the textbook writes them, indexed.
+#![allow(clippy::needless_range_loop)]
+
 use super::faults::{self, Fault, Place};
 use super::{best_match, Explanation, Measured};
 use crate::network::Network;

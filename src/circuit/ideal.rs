@@ -9,6 +9,9 @@
 //! dissipation) the requirement allows. A direction nothing settles is refused, naming its slots and the
 //! keys that would settle it; so are targets no resistor values can meet.
 
+// Dense elimination and rotations read as the textbook writes them, indexed.
+#![allow(clippy::needless_range_loop)]
+
 use super::model::{Circuit, Quantity, Requirement};
 use super::solver::{Options, Solver};
 use crate::units::Ohms;
@@ -326,6 +329,7 @@ fn free_directions(cols: &[Vec<f64>]) -> Vec<Vec<f64>> {
 
 impl Circuit {
     /// The ideal design: the slot values that meet the targets, settled where the targets leave slots free.
+    #[allow(clippy::result_large_err)] // called once per circuit; the error carries the words it prints
     pub fn ideal(&self) -> Result<Ideal, IdealError> {
         let slots = self.slots();
         let names = |which: &[usize]| -> String {

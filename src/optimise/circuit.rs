@@ -196,7 +196,7 @@ impl Search<'_, '_> {
             .stop
             .evaluations
             .is_some_and(|n| self.effort.evaluations >= n);
-        let late = self.effort.evaluations % 64 == 0
+        let late = self.effort.evaluations.is_multiple_of(64)
             && self
                 .stop
                 .deadline
@@ -417,7 +417,7 @@ pub fn exhaustive_circuit_variants(
             uses,
         });
     }
-    all.sort_by(|a, b| Entry(a.clone()).cmp(&Entry(b.clone())));
+    all.sort_by_key(|a| Entry(a.clone()));
     let mut out = Vec::new();
     for f in all {
         if out.len() == k {

@@ -221,7 +221,7 @@ pub enum DesignError {
     Scarce(String),
     /// A circuit has no ideal design.
     #[error(transparent)]
-    CircuitIdeal(#[from] crate::circuit::ideal::IdealError),
+    CircuitIdeal(Box<crate::circuit::ideal::IdealError>),
     /// A kept slot is not one of the circuit's slots.
     #[error("circuit \"{circuit}\" has no slot {slot}; its slots are {slots}")]
     NoSuchCircuitSlot {
@@ -243,6 +243,12 @@ pub enum DesignError {
     /// The stock holds no piece at all (no rows, or every quantity 0), so no slot can be filled.
     #[error("{0}: no part has any pieces on hand, so no network can be built; expected at least one row with a quantity above 0 (or `biasfit order` for a shopping list)")]
     EmptyStock(String),
+}
+
+impl From<crate::circuit::ideal::IdealError> for DesignError {
+    fn from(e: crate::circuit::ideal::IdealError) -> DesignError {
+        DesignError::CircuitIdeal(Box::new(e))
+    }
 }
 
 /// The most networks one slot's window may hold (before deduplication) before the window is narrowed.
