@@ -3,12 +3,12 @@
 //! variants, ready for the integer program that shares the stock with the stages.
 
 use super::circuit::{best_circuit_variants, CircuitModel};
-use super::design::{slot_candidates, DesignError, Request};
+use super::design::{nearest_single, slot_candidates, DesignError, Request};
 use super::search::{Effort, Found, Stop};
 use crate::circuit::ideal::Ideal;
 use crate::circuit::Circuit;
 use crate::network::candidates::{Candidate, Index};
-use crate::network::{Member, Network, PartId};
+use crate::network::{Network, PartId};
 use crate::stock::Stock;
 use crate::units::Ohms;
 use std::collections::BTreeMap;
@@ -243,26 +243,9 @@ fn baseline_of(
             if keep.iter().any(|(s, _)| s == name) {
                 return candidates[k][0].network.clone();
             }
-            let (id, part) = stock
-                .parts
-                .iter()
-                .enumerate()
-                .filter(|(_, p)| p.qty > 0)
-                .min_by(|(_, a), (_, b)| {
-                    (a.ohms.0 / x.0)
-                        .ln()
-                        .abs()
-                        .total_cmp(&(b.ohms.0 / x.0).ln().abs())
-                })
-                .expect("a stock with parts");
+            let (id, network) = nearest_single(stock, *x);
             *need.entry(id).or_default() += copies;
-            Network::Single(Member {
-                ohms: part.ohms,
-                tolerance: part.tolerance,
-                power: part.power,
-                location: part.location(),
-                part: Some(id),
-            })
+            network
         })
         .collect();
     let fails = failing(c, &networks);

@@ -919,6 +919,31 @@ fn design_once(
     })
 }
 
+/// The stocked single part nearest `x` in ratio (pieces on hand only), as a network: how a slot is
+/// rounded by hand. The stock must hold a piece of something.
+pub fn nearest_single(stock: &Stock, x: Ohms) -> (PartId, Network) {
+    let (id, part) = stock
+        .parts
+        .iter()
+        .enumerate()
+        .filter(|(_, p)| p.qty > 0)
+        .min_by(|(_, a), (_, b)| {
+            (a.ohms.0 / x.0)
+                .ln()
+                .abs()
+                .total_cmp(&(b.ohms.0 / x.0).ln().abs())
+        })
+        .expect("a stock with parts");
+    let member = crate::network::Member {
+        ohms: part.ohms,
+        tolerance: part.tolerance,
+        power: part.power,
+        location: part.location(),
+        part: Some(id),
+    };
+    (id, Network::Single(member))
+}
+
 /// Rounds each slot to the single stock value nearest its ideal (in ratio), the way it is done by hand.
 fn baseline_of(
     si: usize,
@@ -933,27 +958,9 @@ fn baseline_of(
         .iter()
         .map(|&s| {
             let x = ideal.get(s).expect("ideal sets every slot");
-            let (id, part) = stock
-                .parts
-                .iter()
-                .enumerate()
-                .filter(|(_, p)| p.qty > 0)
-                .min_by(|(_, a), (_, b)| {
-                    (a.ohms.0 / x.0)
-                        .ln()
-                        .abs()
-                        .total_cmp(&(b.ohms.0 / x.0).ln().abs())
-                })
-                .expect("a stock with parts");
+            let (id, member) = nearest_single(stock, x);
             *need.entry(id).or_default() += copies;
-            let member = crate::network::Member {
-                ohms: part.ohms,
-                tolerance: part.tolerance,
-                power: part.power,
-                location: part.location(),
-                part: Some(id),
-            };
-            (s, Network::Single(member))
+            (s, member)
         })
         .collect();
     let networks = SlotNetworks::from_pairs(pairs);
